@@ -1,0 +1,45 @@
+import { createError } from 'h3'
+import { ZodError } from 'zod'
+
+const STATUS_TEXT: Record<number, string> = {
+  400: 'Bad Request',
+  401: 'Unauthorized',
+  403: 'Forbidden',
+  404: 'Not Found',
+  409: 'Conflict',
+  413: 'Payload Too Large',
+  415: 'Unsupported Media Type',
+  422: 'Unprocessable Content',
+  503: 'Service Unavailable',
+}
+
+/** An HTTP error with a readable message and a machine code in data.code (the only kind routes raise). */
+export function httpError(statusCode: number, code: string, message: string, extra: Record<string, unknown> = {}) {
+  return createError({ statusCode, statusMessage: STATUS_TEXT[statusCode], message, data: { code, ...extra } })
+}
+
+/**
+ * Thrown by zodValidator. h3's readValidatedBody turns whatever a validator throws into a 400 whose
+ * `data` is that error, so the enumerable fields below become data.code and data.issues.
+ */
+export class InputValidationError extends Error {
+  readonly code = 'invalid_input'
+  readonly issues: { path: string; message: string }[]
+  constructor(err: ZodError) {
+    const issues = err.issues.map((i) => ({ path: i.path.join('.'), message: i.message }))
+    super(issues.map((i) => (i.path ? `${i.path}: ${i.message}` : i.message)).join('; '))
+    this.issues = issues
+  }
+}
+
+/** Validator for readValidatedBody, getValidatedQuery and getValidatedRouterParams with a zod schema. */
+export function zodValidator<T>(schema: { parse: (v: unknown) => T }) {
+  return (value: unknown): T => {
+    try {
+      return schema.parse(value)
+    } catch (err) {
+      if (err instanceof ZodError) throw new InputValidationError(err)
+      throw err
+    }
+  }
+}
