@@ -1,0 +1,114 @@
+import type { ChannelRole } from './profile.ts'
+import type { ClassicalResult } from './small-signal.ts'
+
+export interface AnalyzeOptions {
+  /** Ambient temperature during the test; enables the 20 °C referral of Re. */
+  ambientC?: number
+  /** Band for the sensitivity figure, default [300, 3000] Hz. */
+  sensitivityBandHz?: [number, number]
+  /** Frequencies for the THD table, default [100, 1000, 3000] Hz. */
+  thdAtHz?: number[]
+  /** Rub-and-buzz limit in dB (default RUB_BUZZ_LIMIT_DB); masks may apply their own. */
+  rubBuzzLimitDb?: number
+  /** Report clipped channels in the flags instead of rejecting the recording. */
+  allowClipped?: boolean
+}
+
+export interface ThdAtPoint {
+  hz: number
+  thdPct: number | null
+  h2Pct: number | null
+  h3Pct: number | null
+  h4Pct: number | null
+  h5Pct: number | null
+  splDb: number | null
+}
+
+export type PerChannel<T> = { mic: T; drive: T; sense: T }
+
+export interface AnalysisParameters {
+  /** Re as measured (at the test temperature). */
+  reOhm: number | null
+  /** Re referred to 20 °C (copper, IEC 60028); null without an ambient temperature. */
+  re20Ohm: number | null
+  ambientC: number | null
+  fsHz: number | null
+  qms: number | null
+  qes: number | null
+  qts: number | null
+  leMh: number | null
+  zmaxOhm: number | null
+  /** Minimum of |Z| above Fs (rated-impedance check, IEC 60268-5). */
+  zminOhm: number | null
+  fZminHz: number | null
+  /** RMS relative misfit of the small-signal model, %. */
+  fitErrorPct: number | null
+  /** Mean dB SPL at 2.83 V / 1 m over the sensitivity band. */
+  sensitivityDb: number | null
+  sensitivityBandHz: [number, number]
+  /** THD at 1 kHz, %. */
+  thdPct: number | null
+  thdMaxPct: number | null
+  thdMaxAtHz: number | null
+  /** Rub-and-buzz level: peak high-order residual re the fundamental's peak, dB (see docs/method.md). */
+  rubBuzzDb: number | null
+  rubBuzzAtHz: number | null
+  rubBuzzLimitDb: number
+  /** Delay of the acoustic impulse behind the drive, ms. */
+  acousticDelayMs: number | null
+  /** Drive RMS over sense-current RMS during the sweep (open/short detection), Ω. */
+  effectiveImpedanceOhm: number | null
+  snrDb: PerChannel<number | null>
+  peakDbfs: PerChannel<number | null>
+}
+
+export interface AnalysisCurves {
+  freqHz: number[]
+  impedanceOhm: (number | null)[] | null
+  impedancePhaseDeg: (number | null)[] | null
+  splDb: (number | null)[] | null
+  splPhaseDeg: (number | null)[] | null
+  thdPct: (number | null)[] | null
+  h2Pct: (number | null)[] | null
+  h3Pct: (number | null)[] | null
+  h4Pct: (number | null)[] | null
+  h5Pct: (number | null)[] | null
+}
+
+export interface AnalysisFlags {
+  polarity: 'normal' | 'inverted' | null
+  openCoil: boolean
+  shortedCoil: boolean
+  clippedChannels: ChannelRole[]
+  lowSnrChannels: ChannelRole[]
+  /** Rub-and-buzz level above its limit; null when not measured. */
+  rubBuzz: boolean | null
+}
+
+export interface AnalysisTimings {
+  validate: number
+  deconvolve: number
+  impedance: number
+  fit: number
+  response: number
+  distortion: number
+  rubBuzz: number
+  total: number
+}
+
+export interface AnalysisResult {
+  engineVersion: string
+  kind: 'sweep' | 'impedance_table'
+  sampleRateHz: number | null
+  format: { encoding: string; bitsPerSample: number; channels: number; frames: number; extensible: boolean } | null
+  timingsMs: AnalysisTimings
+  parameters: AnalysisParameters
+  /** Classical three-point estimate, kept as a cross-check of the fit. */
+  classical: ClassicalResult | null
+  curves: AnalysisCurves
+  flags: AnalysisFlags
+  thdAt: ThdAtPoint[]
+  /** Names of the figures that could not be measured (see `notes` for why). */
+  unmeasured: string[]
+  notes: string[]
+}
