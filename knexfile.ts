@@ -1,5 +1,5 @@
 import type { Knex } from 'knex'
-import { loadConfig } from './server/utils/config.ts'
+import { loadConfig } from './server/utils/config'
 
 /** Knex settings shared by the server, the scripts and the tests. */
 export function knexConfig(databaseUrl = loadConfig().databaseUrl): Knex.Config {

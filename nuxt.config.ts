@@ -46,6 +46,9 @@ export default defineNuxtConfig({
     },
   },
   nitro: {
+    // The engine under server/analysis is also run by tsx (scripts, workers), where explicit .ts
+    // import paths are the norm; type-checking accepts both styles.
+    typescript: { tsConfig: { compilerOptions: { allowImportingTsExtensions: true } } },
     // The test setup builds into its own folder so it never replaces a running `npm start` build.
     ...(process.env.CONETRAIL_OUTPUT_DIR ? { output: { dir: process.env.CONETRAIL_OUTPUT_DIR } } : {}),
     // knex loads dialects dynamically; keep it and pg external to the bundle.

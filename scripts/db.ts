@@ -13,7 +13,7 @@ import { chmodSync, chownSync, existsSync, mkdirSync, readFileSync, readdirSync,
 import { dirname, join, resolve } from 'node:path'
 import { fileURLToPath } from 'node:url'
 import pg from 'pg'
-import { dbPasswordFile, loadConfig, type ConetrailConfig } from '../server/utils/config.ts'
+import { dbPasswordFile, loadConfig, type ConetrailConfig } from '../server/utils/config'
 
 const PG_ROOT = '/usr/lib/postgresql'
 const SYSTEM_USER = 'postgres'

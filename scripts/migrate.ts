@@ -5,10 +5,10 @@
 import { resolve } from 'node:path'
 import { fileURLToPath } from 'node:url'
 import knex, { type Knex } from 'knex'
-import { knexConfig } from '../knexfile.ts'
-import { loadConfig, type ConetrailConfig } from '../server/utils/config.ts'
-import { countUsers, createUserIfAbsent } from '../server/repos/users.ts'
-import { makePasswordHash } from './password.ts'
+import { knexConfig } from '../knexfile'
+import { loadConfig, type ConetrailConfig } from '../server/utils/config'
+import { countUsers, createUserIfAbsent } from '../server/repos/users'
+import { makePasswordHash } from './password'
 
 const projectRoot = resolve(fileURLToPath(import.meta.url), '../..')
 

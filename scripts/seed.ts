@@ -1,6 +1,6 @@
 /** npm run db:seed — runs every seed against the configured database (idempotent). */
-import { loadConfig } from '../server/utils/config.ts'
-import { runSeeds } from './migrate.ts'
+import { loadConfig } from '../server/utils/config'
+import { runSeeds } from './migrate'
 
 runSeeds(loadConfig())
   .then(() => console.log('[seed] done'))

@@ -5,10 +5,10 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process'
 import { resolve } from 'node:path'
 import { fileURLToPath } from 'node:url'
-import { loadConfig } from '../server/utils/config.ts'
-import { startForConfig, stopCluster } from './db.ts'
-import { loadEnvFile } from './env-file.ts'
-import { bootstrapAdmin, migrateLatest, seedDemoIfEmpty } from './migrate.ts'
+import { loadConfig } from '../server/utils/config'
+import { startForConfig, stopCluster } from './db'
+import { loadEnvFile } from './env-file'
+import { bootstrapAdmin, migrateLatest, seedDemoIfEmpty } from './migrate'
 
 const root = resolve(fileURLToPath(import.meta.url), '../..')
 /** Worker entry points started beside the server (workers/*.ts). */

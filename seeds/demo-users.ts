@@ -1,7 +1,7 @@
 import type { Knex } from 'knex'
-import { createUserIfAbsent } from '../server/repos/users.ts'
-import { ROLES, ROLE_LABELS } from '../shared/utils/roles.ts'
-import { makePasswordHash } from '../scripts/password.ts'
+import { createUserIfAbsent } from '../server/repos/users'
+import { ROLES, ROLE_LABELS } from '../shared/utils/roles'
+import { makePasswordHash } from '../scripts/password'
 
 /** Demo only: one account per role, all with this password (README, "Demo accounts"). */
 export const DEMO_PASSWORD = 'conetrail-demo'

@@ -43,7 +43,7 @@ export async function getUserByEmail(db: Knex, email: string): Promise<UserRow |
 }
 
 export async function getUserById(db: Knex, id: number): Promise<UserRow | undefined> {
-  return db<UserRow>('users').where({ id }).first()
+  return db<UserRow>('users').where({ id: String(id) }).first()
 }
 
 export async function listUsers(db: Knex): Promise<UserSummary[]> {
