@@ -296,13 +296,16 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
   const fTopValid = Math.min(sweep.f2Hz * USABLE_TOP_FRACTION, 0.5 * fs * 0.9)
   const preN = Math.round(PRE_WINDOW_S * fs)
   const linN = Math.round(LINEAR_WINDOW_S * fs)
+  // The windowed linear responses are short: a smaller transform of them is enough.
+  const M = Math.min(N, nextPowerOfTwo(2 * (preN + linN)))
+  const linBinHz = fs / M
 
   // ---- Impedance ----
   t = performance.now()
   let Yw: Float64Array | null = null // windowed admittance × R, spectrum of length N
   if (Xs && Xd && !unitDead) {
     const hs = irfft(divide(Xs, Xd), N)
-    Yw = rfft(cutWindow(hs, 0, preN, linN, N), N)
+    Yw = rfft(cutWindow(hs, 0, preN, linN, M), M)
     const zMag: (number | null)[] = []
     const zPh: (number | null)[] = []
     for (const f of freqHz) {
@@ -311,7 +314,7 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
         zPh.push(null)
         continue
       }
-      const [yr, yi] = binInterp(Yw, f / binHz)
+      const [yr, yi] = binInterp(Yw, f / linBinHz)
       const d = yr * yr + yi * yi
       const zr = (R * yr) / d
       const zi = (-R * yi) / d
@@ -338,13 +341,13 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
     const zmag: number[] = []
     let lastBin = -1
     for (const f of logSpaced(fLo, fHi, FIT_POINTS_PER_OCTAVE)) {
-      const b = Math.round(f / binHz)
+      const b = Math.round(f / linBinHz)
       if (b === lastBin) continue
       lastBin = b
       const yr = Yw[2 * b]!
       const yi = Yw[2 * b + 1]!
       const d = yr * yr + yi * yi
-      fre.push(b * binHz)
+      fre.push(b * linBinHz)
       zre.push((R * yr) / d)
       zim.push((-R * yi) / d)
       zmag.push(R / Math.sqrt(d))
@@ -386,7 +389,7 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
       }
     }
     params.acousticDelayMs = (1000 * peakIdx) / fs
-    Ha = rfft(cutWindow(ha, 0, preN, linN, N), N)
+    Ha = rfft(cutWindow(ha, 0, preN, linN, M), M)
     const sensScale = (REFERENCE_DRIVE_V * (profile.micDistanceM / REFERENCE_DISTANCE_M)) / profile.micSensitivityVPerPa
     const tau = profile.micDistanceM / speedOfSoundMs(options.ambientC ?? 20)
     const spl: (number | null)[] = []
@@ -398,7 +401,7 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
         splPh.push(null)
         continue
       }
-      const b = f / binHz
+      const b = f / linBinHz
       let [hr, hi] = binInterp(Ha, b)
       if (terminalCorrection) {
         const [yr, yi] = binInterp(Yw!, b)
@@ -430,10 +433,10 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
     const tauPeak = peakIdx / fs
     let c = 0
     let cn = 0
-    for (let b = Math.ceil(Math.max(200, fLoValid) / binHz); b * binHz <= Math.min(2000, fTopValid); b++) {
+    for (let b = Math.ceil(Math.max(200, fLoValid) / linBinHz); b * linBinHz <= Math.min(2000, fTopValid); b++) {
       const hr = Ha[2 * b]!
       const hi = Ha[2 * b + 1]!
-      const ph = Math.atan2(hi, hr) + 2 * Math.PI * b * binHz * tauPeak
+      const ph = Math.atan2(hi, hr) + 2 * Math.PI * b * linBinHz * tauPeak
       c += Math.cos(ph)
       cn++
     }
@@ -465,7 +468,7 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
     const harmonicPct = (k: number, f: number): number | null => {
       if (f < fLoValid || k * f > fTopValid) return null
       const s = specs[k - 2]!
-      const h1 = Math.hypot(...binInterp(Ha, f / binHz))
+      const h1 = Math.hypot(...binInterp(Ha, f / linBinHz))
       const hk = Math.hypot(...binInterp(s.spec, (k * f * s.M) / fs))
       return h1 > 0 ? (100 * hk) / h1 : null
     }
@@ -598,6 +601,11 @@ function rubBuzzLevel(
   const start = Math.round(sweep.preSilenceS * fs) + peakIdx
   const tEnd = Math.log(fTopValid / RUB_BUZZ_MIN_ORDER / sweep.f1Hz) / rate
   const tBegin = Math.log(USABLE_BOTTOM_FACTOR) / rate
+  // Reference: the peak of the mic signal over the whole sweep (its loudest fundamental).
+  const sweepEndIdx = Math.min(mic.length, start + Math.round(sweep.durationS * fs))
+  let pRef = 0
+  for (let i = start; i < sweepEndIdx; i++) pRef = Math.max(pRef, Math.abs(mic[i]!))
+  if (!(pRef > 0)) return null
   let worst = Number.NEGATIVE_INFINITY
   let worstHz = 0
   let tb = tBegin
@@ -607,15 +615,12 @@ function rubBuzzLevel(
     const a = start + Math.round(tb * fs)
     const b = Math.min(mic.length, a + Math.round(dur * fs))
     let pr = 0
-    let pm = 0
     for (let i = a; i < b; i++) {
       const x = Math.abs(r[i]!)
       if (x > pr) pr = x
-      const m = Math.abs(mic[i]!)
-      if (m > pm) pm = m
     }
-    if (pm > 0 && pr > 0) {
-      const lv = 20 * Math.log10(pr / pm)
+    if (pr > 0) {
+      const lv = 20 * Math.log10(pr / pRef)
       if (lv > worst) {
         worst = lv
         worstHz = sweep.f1Hz * Math.exp((tb + dur / 2) * rate)

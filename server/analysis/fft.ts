@@ -7,6 +7,33 @@ import FFT from 'fft.js'
  */
 
 const plans = new Map<number, FFT>()
+/** Scratch buffers and twiddles per size: the transforms run many times per recording. */
+const scratch = new Map<number, { input: Float64Array; out: Float64Array }>()
+const twiddles = new Map<number, { cos: Float64Array; sin: Float64Array }>()
+const inverseScratch = new Map<number, { z: Float64Array; zt: Float64Array }>()
+
+function scratchFor(n: number): { input: Float64Array; out: Float64Array } {
+  let s = scratch.get(n)
+  if (s === undefined) {
+    s = { input: new Float64Array(n), out: new Float64Array(2 * n) }
+    scratch.set(n, s)
+  }
+  return s
+}
+
+function twiddlesFor(n: number): { cos: Float64Array; sin: Float64Array } {
+  let t = twiddles.get(n)
+  if (t === undefined) {
+    const m = n / 2
+    t = { cos: new Float64Array(m), sin: new Float64Array(m) }
+    for (let k = 0; k < m; k++) {
+      t.cos[k] = Math.cos((2 * Math.PI * k) / n)
+      t.sin[k] = Math.sin((2 * Math.PI * k) / n)
+    }
+    twiddles.set(n, t)
+  }
+  return t
+}
 
 function plan(size: number): FFT {
   let p = plans.get(size)
@@ -30,23 +57,31 @@ export function nextPowerOfTwo(n: number): number {
 /** Forward real FFT of `x` zero-padded (or truncated) to `n` (a power of two ≥ 4). */
 export function rfft(x: ArrayLike<number>, n: number): Float64Array {
   if (!isPowerOfTwo(n) || n < 4) throw new RangeError(`FFT length ${n} is not a power of two ≥ 4`)
+  const s = scratchFor(n)
   let input: Float64Array
   if (x instanceof Float64Array && x.length === n) input = x
   else {
-    input = new Float64Array(n)
+    input = s.input
     const m = Math.min(n, x.length)
-    for (let i = 0; i < m; i++) input[i] = x[i]!
+    if (x instanceof Float64Array) input.set(m === x.length ? x : x.subarray(0, m))
+    else for (let i = 0; i < m; i++) input[i] = x[i]!
+    input.fill(0, m)
   }
-  const out = new Float64Array(2 * n)
-  plan(n).realTransform(out, input)
-  return out.subarray(0, n + 2)
+  plan(n).realTransform(s.out, input)
+  return s.out.slice(0, n + 2)
 }
 
 /** Inverse of `rfft`: bins 0…n/2 (interleaved) to n real samples, normalised by 1/n. */
 export function irfft(spec: Float64Array, n: number): Float64Array {
   if (!isPowerOfTwo(n) || n < 4) throw new RangeError(`FFT length ${n} is not a power of two ≥ 4`)
   const m = n / 2
-  const z = new Float64Array(2 * m)
+  let sc = inverseScratch.get(n)
+  if (sc === undefined) {
+    sc = { z: new Float64Array(2 * m), zt: new Float64Array(2 * m) }
+    inverseScratch.set(n, sc)
+  }
+  const { z, zt } = sc
+  const tw = twiddlesFor(n)
   // E[k] = (X[k] + conj X[m−k]) / 2,  O[k] = (X[k] − conj X[m−k]) · e^{+2πik/n} / 2,  Z = E + i·O
   for (let k = 0; k < m; k++) {
     const xr = spec[2 * k]!
@@ -57,22 +92,16 @@ export function irfft(spec: Float64Array, n: number): Float64Array {
     const ei = 0.5 * (xi + yi)
     const dr = 0.5 * (xr - yr)
     const di = 0.5 * (xi - yi)
-    const a = (2 * Math.PI * k) / n
-    const c = Math.cos(a)
-    const s = Math.sin(a)
+    const c = tw.cos[k]!
+    const s = tw.sin[k]!
     const or = dr * c - di * s
     const oi = dr * s + di * c
     z[2 * k] = er - oi
     z[2 * k + 1] = ei + or
   }
-  const zt = new Float64Array(2 * m)
   plan(m).inverseTransform(zt, z)
-  const out = new Float64Array(n)
-  for (let j = 0; j < m; j++) {
-    out[2 * j] = zt[2 * j]!
-    out[2 * j + 1] = zt[2 * j + 1]!
-  }
-  return out
+  // zt holds m complex values: re/im interleaved are exactly the even/odd output samples.
+  return zt.slice(0, n)
 }
 
 /** Magnitude of bin k of an interleaved spectrum. */

@@ -16,6 +16,8 @@ export const CLIP_THRESHOLD = 0.999
 export const CLIP_RUN_SAMPLES = 3
 /** Drive RMS below this fraction of the profile's sweep level counts as silent (−40 dB). */
 export const SILENT_DRIVE_FRACTION = 0.01
+/** Drive RMS below this fraction of the sweep level, with current flowing, is a collapsed (shorted) load. */
+export const COLLAPSED_DRIVE_FRACTION = 0.1
 /** Sense-resistor RMS above this fraction of the sweep level counts as current flowing. */
 export const CURRENT_PRESENT_FRACTION = 0.1
 /** Pre-silence kept clear of the sweep's start when measuring the noise floor. */
@@ -123,11 +125,6 @@ export function validateRecording(
         if (++run >= CLIP_RUN_SAMPLES) clipped = true
       } else run = 0
     }
-    if (clipped && !options.allowClipped) {
-      throw new AnalysisInputError('clipped', `Channel ${c + 1} (${role}) reaches full scale (${fsV} V): the recording is clipped.`, {
-        channel: c,
-      })
-    }
     const sweepRms = rmsOf(x, sweepStart, sweepEnd)
     const noiseRms = noiseEnd > 16 ? rmsOf(x, 0, noiseEnd) : null
     let snrDb: number | null = null
@@ -148,13 +145,25 @@ export function validateRecording(
       clipped,
     })
   }
-  let driveSilentWithCurrent = false
+  const level = profile.sweep.levelVrms
   const driveStats = stats.find((s) => s.role === 'drive')
-  if (driveStats && driveStats.sweepRmsV < SILENT_DRIVE_FRACTION * profile.sweep.levelVrms) {
-    const senseStats = stats.find((s) => s.role === 'sense')
-    if (senseStats && senseStats.sweepRmsV >= CURRENT_PRESENT_FRACTION * profile.sweep.levelVrms) {
-      driveSilentWithCurrent = true
-    } else {
+  const senseStats = stats.find((s) => s.role === 'sense')
+  // Current flows but the terminal voltage has collapsed: a shorted unit. Its current is limited
+  // only by the sense resistor, so the sense channel may clip; that is the unit's fault, not the file's.
+  const driveSilentWithCurrent =
+    driveStats !== undefined &&
+    senseStats !== undefined &&
+    driveStats.sweepRmsV < COLLAPSED_DRIVE_FRACTION * level &&
+    senseStats.sweepRmsV >= CURRENT_PRESENT_FRACTION * level
+  for (const st of stats) {
+    if (!st.clipped || options.allowClipped) continue
+    if (st.role === 'sense' && driveSilentWithCurrent) continue
+    throw new AnalysisInputError('clipped', `Channel ${st.index + 1} (${st.role}) reaches full scale (${st.fullScaleV} V): the recording is clipped.`, {
+      channel: st.index,
+    })
+  }
+  if (driveStats && driveStats.sweepRmsV < SILENT_DRIVE_FRACTION * level) {
+    if (!driveSilentWithCurrent) {
       throw new AnalysisInputError(
         'silent_drive',
         `The drive channel is silent (${driveStats.sweepRmsV.toExponential(2)} V RMS during the sweep, expected about ${profile.sweep.levelVrms} V): the station played nothing.`,
