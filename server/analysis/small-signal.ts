@@ -332,6 +332,44 @@ export function fitSmallSignal(
   }
 }
 
+const RESONANCE_SEARCH_RATIO = 2
+const PEAK_WINDOW_RATIO = Math.pow(2, 1 / 3)
+
+/**
+ * Index of the mechanical resonance. With phase, the peak of the resistive part (the inductance
+ * adds none in this model). With magnitude only, the lowest-frequency peak that is the maximum
+ * within ±1/3 octave and stands well above the minimum (a large Le can make |Z| at the top of the
+ * band exceed Zmax, so the global maximum is not enough).
+ */
+export function findResonance(freqHz: readonly number[], re: readonly number[] | null, mag: readonly number[]): number {
+  const n = freqHz.length
+  const src = re ?? mag
+  if (re) {
+    let iMax = 0
+    for (let i = 1; i < n; i++) if (src[i]! > src[iMax]!) iMax = i
+    return iMax
+  }
+  let min = Number.POSITIVE_INFINITY
+  for (let i = 0; i < n; i++) min = Math.min(min, mag[i]!)
+  let j0 = 0
+  let j1 = 0
+  for (let i = 1; i < n - 1; i++) {
+    const f = freqHz[i]!
+    if (mag[i]! < 1.5 * min) continue
+    while (freqHz[j0]! < f / PEAK_WINDOW_RATIO) j0++
+    if (j1 < i) j1 = i
+    while (j1 + 1 < n && freqHz[j1 + 1]! <= f * PEAK_WINDOW_RATIO) j1++
+    if (j0 === 0 && freqHz[0]! > f / PEAK_WINDOW_RATIO) continue // window runs off the bottom
+    if (j1 === n - 1) break
+    let isMax = true
+    for (let j = j0; j <= j1 && isMax; j++) if (mag[j]! > mag[i]!) isMax = false
+    if (isMax) return i
+  }
+  let iMax = 0
+  for (let i = 1; i < n; i++) if (mag[i]! > mag[iMax]!) iMax = i
+  return iMax
+}
+
 /**
  * Seeds the fit: Re from the minimum real part (or modulus) above resonance, Fs/Qms/Qes from the
  * classical method, Le from the reactance left at the top of the band.
@@ -343,8 +381,7 @@ export function seedSmallSignal(
   mag: readonly number[],
 ): { seed: SmallSignalParams; classical: ClassicalResult } | null {
   const n = freqHz.length
-  let iPeak = 0
-  for (let i = 1; i < n; i++) if (mag[i]! > mag[iPeak]!) iPeak = i
+  const iPeak = findResonance(freqHz, re, mag)
   const fPeak = freqHz[iPeak]!
   // Re: smallest resistive part between 3·Fs and 30·Fs, where the motional part has died
   // away and the inductance has not yet taken over.
@@ -357,7 +394,7 @@ export function seedSmallSignal(
     for (let i = iPeak; i < n; i++) reOhm = Math.min(reOhm, src[i]!)
   }
   if (!(reOhm > 0) || !Number.isFinite(reOhm)) return null
-  const classical = classicalThreePoint(freqHz, mag, reOhm)
+  const classical = classicalThreePoint(freqHz, mag, reOhm, [fPeak / RESONANCE_SEARCH_RATIO, fPeak * RESONANCE_SEARCH_RATIO])
   if (classical === null) return null
   // Le from the top decade of the data: the reactance left after the motional part.
   const base: SmallSignalParams = { reOhm, leH: 0, fsHz: classical.fsHz, qms: classical.qms, qes: classical.qes }
