@@ -234,7 +234,6 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
   const fs = v.sampleRate
   const sweep = profile.sweep
   const N = nextPowerOfTwo(v.frames)
-  const binHz = fs / N
   const { mic, drive, sense } = v.channels
   const R = profile.senseResistorOhm
   const stat = (role: ChannelRole): ChannelStats | undefined => v.stats.find((s) => s.role === role)
