@@ -33,6 +33,8 @@ export default defineNuxtConfig({
   typescript: {
     strict: true,
     tsConfig: {
+      // Route types pull server files (and the engine, whose imports carry .ts) into the app check.
+      compilerOptions: { allowImportingTsExtensions: true },
       exclude: [
         '../workers',
         '../migrations',

@@ -46,10 +46,11 @@ export function seedDemoIfEmpty(cfg: ConetrailConfig): Promise<boolean> {
   })
 }
 
-/** Runs every seed (idempotent: existing rows are left as they are). */
-export function runSeeds(cfg: ConetrailConfig): Promise<void> {
+/** Runs every seed, or only the named ones (idempotent: existing rows are left as they are). */
+export function runSeeds(cfg: ConetrailConfig, only?: string[]): Promise<void> {
   return withDb(cfg, async (db) => {
-    await db.seed.run()
+    if (only) for (const specific of only) await db.seed.run({ specific })
+    else await db.seed.run()
   })
 }
 

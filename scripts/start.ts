@@ -12,7 +12,7 @@ import { bootstrapAdmin, migrateLatest, seedDemoIfEmpty } from './migrate'
 
 const root = resolve(fileURLToPath(import.meta.url), '../..')
 /** Worker entry points started beside the server (workers/*.ts). */
-const WORKERS: string[] = []
+const WORKERS: string[] = ['workers/analyze.ts']
 
 function log(msg: string) {
   console.log(`[start] ${msg}`)

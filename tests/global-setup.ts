@@ -14,11 +14,14 @@ import { ensureDatabase, startCluster, stopCluster } from '../scripts/db'
 import { migrateLatest, runSeeds } from '../scripts/migrate'
 
 const root = resolve(import.meta.dirname, '..')
+/** Short job expiry and frequent maintenance, so a killed worker's job is retried within seconds. */
+export const TEST_QUEUE_ENV = { CONETRAIL_JOB_EXPIRE_S: '3', CONETRAIL_QUEUE_MAINTENANCE_S: '1' }
 
 declare module 'vitest' {
   export interface ProvidedContext {
     baseUrl: string
     databaseUrl: string
+    dataDir: string
   }
 }
 
@@ -62,7 +65,8 @@ export default async function setup(project: TestProject) {
   await ensureDatabase(adminUrl, 'conetrail_test', { fresh: true })
   const cfg = { ...loadConfig({ ...process.env, DATABASE_URL: databaseUrl, CONETRAIL_DATA_DIR: dataDir }) }
   await migrateLatest(cfg)
-  await runSeeds(cfg)
+  // The demo accounts only; tests make the products, stations and units they need.
+  await runSeeds(cfg, ['01-demo-users.ts'])
   await unregister()
 
   const outputDir = resolve(dataDir, 'build')
@@ -84,12 +88,14 @@ export default async function setup(project: TestProject) {
       DATABASE_URL: databaseUrl,
       CONETRAIL_DATA_DIR: dataDir,
       NUXT_SESSION_PASSWORD: randomBytes(36).toString('base64url'),
+      ...TEST_QUEUE_ENV,
     },
   })
   const baseUrl = `http://127.0.0.1:${appPort}/`
   await waitForHealth(baseUrl, server)
   project.provide('baseUrl', baseUrl)
   project.provide('databaseUrl', databaseUrl)
+  project.provide('dataDir', dataDir)
 
   return async () => {
     server.kill('SIGTERM')

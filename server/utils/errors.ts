@@ -1,5 +1,8 @@
 import { createError } from 'h3'
 import { ZodError } from 'zod'
+import { AnalysisInputError } from '../analysis/index'
+import { UnitInputError } from '../repos/units'
+import { UploadRefused } from '../services/ingest'
 
 const STATUS_TEXT: Record<number, string> = {
   400: 'Bad Request',
@@ -42,4 +45,12 @@ export function zodValidator<T>(schema: { parse: (v: unknown) => T }) {
       throw err
     }
   }
+}
+
+/** The one mapper from typed domain errors to HTTP errors; anything unknown is rethrown as it is. */
+export function toHttpError(err: unknown): unknown {
+  if (err instanceof UploadRefused) return httpError(err.status, err.code, err.message)
+  if (err instanceof UnitInputError) return httpError(422, err.code, err.message)
+  if (err instanceof AnalysisInputError) return httpError(422, err.code, err.message)
+  return err
 }

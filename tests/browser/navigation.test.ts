@@ -1,6 +1,6 @@
 import type { Browser } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, it, inject } from 'vitest'
-import { DEMO_PASSWORD, demoEmail } from '../../seeds/demo-users'
+import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import { launchBrowser } from '../support/browser'
 
 const baseUrl = inject('baseUrl')

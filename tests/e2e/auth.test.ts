@@ -1,7 +1,7 @@
 import { $fetch, fetch } from '@nuxt/test-utils/e2e'
 import { describe, expect, it } from 'vitest'
 import { ROLES } from '../../shared/utils/roles'
-import { DEMO_PASSWORD, demoEmail } from '../../seeds/demo-users'
+import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import { signIn, useTestServer } from '../support/app'
 
 const host = await useTestServer()

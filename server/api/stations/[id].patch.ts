@@ -1,0 +1,14 @@
+import { updateStation } from '../../repos/stations'
+import { stationProfileSchema } from '../../analysis/index'
+import { idParamSchema, stationPatchSchema } from '../../../shared/utils/bench'
+import type { StationView } from '../../../shared/types/api'
+
+export default defineEventHandler(async (event) => {
+  const user = await requireRole(event, 'engineer')
+  const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
+  const patch = await readValidatedBody(event, zodValidator(stationPatchSchema))
+  const profile = patch.profile ? zodValidator(stationProfileSchema)(patch.profile) : undefined
+  const station = await updateStation(useDb(), id, { ...patch, profile }, user.id)
+  if (!station) throw httpError(404, 'not_found', `No station ${id}`)
+  return station satisfies StationView
+})

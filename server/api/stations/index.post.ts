@@ -1,0 +1,15 @@
+import { createStation } from '../../repos/stations'
+import { stationProfileSchema } from '../../analysis/index'
+import { stationCreateSchema } from '../../../shared/utils/bench'
+
+export default defineEventHandler(async (event) => {
+  const user = await requireRole(event, 'engineer')
+  const body = await readValidatedBody(event, zodValidator(stationCreateSchema))
+  const profile = zodValidator(stationProfileSchema)(body.profile)
+  const db = useDb()
+  if (await db('stations').where({ name: body.name }).first()) throw httpError(409, 'duplicate_station', `A station named ${body.name} exists`)
+  const created = await createStation(db, { name: body.name, line: body.line, profile, createdBy: user.id })
+  setResponseStatus(event, 201)
+  // The token is shown this once; only its hash is kept.
+  return created
+})

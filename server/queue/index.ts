@@ -1,0 +1,56 @@
+import type { Knex } from 'knex'
+import PgBoss from 'pg-boss'
+
+/** The one queue: analyse an accepted recording. Jobs carry only the recording id (idempotent). */
+export const ANALYSE_QUEUE = 'analyse-recording'
+
+export interface AnalyseJob {
+  recordingId: number
+}
+
+/** Retry policy: a few tries with exponential backoff, then the recording ends `failed`. */
+export const RETRY_LIMIT = 3
+
+export interface BossOptions {
+  /** Run maintenance (expiry of jobs whose worker died, archiving). Workers do; the web server does not. */
+  supervise?: boolean
+}
+
+/** Seconds after which a job whose worker vanished is retried (CONETRAIL_JOB_EXPIRE_S, default 60). */
+export function jobExpirySeconds(env = process.env): number {
+  const n = Number(env.CONETRAIL_JOB_EXPIRE_S)
+  return Number.isFinite(n) && n >= 1 ? n : 60
+}
+
+export function createBoss(databaseUrl: string, opts: BossOptions = {}): PgBoss {
+  const maintenance = Number(process.env.CONETRAIL_QUEUE_MAINTENANCE_S) || 10
+  return new PgBoss({
+    connectionString: databaseUrl,
+    max: 4,
+    supervise: opts.supervise ?? false,
+    schedule: false,
+    maintenanceIntervalSeconds: maintenance,
+  })
+}
+
+/** Creates the queue with its policy when absent (pg-boss 10 needs a queue before send). */
+export async function ensureQueue(boss: PgBoss): Promise<void> {
+  const existing = await boss.getQueue(ANALYSE_QUEUE)
+  if (existing) return
+  await boss.createQueue(ANALYSE_QUEUE, {
+    name: ANALYSE_QUEUE,
+    retryLimit: RETRY_LIMIT,
+    retryDelay: 1,
+    retryBackoff: true,
+    expireInSeconds: jobExpirySeconds(),
+  })
+}
+
+/** Enqueues inside the caller's transaction, so the job exists exactly when the recording row does. */
+export async function enqueueAnalysis(boss: PgBoss, trx: Knex.Transaction, recordingId: number): Promise<void> {
+  const conn = (await trx.client.acquireConnection()) as { query: (text: string, values?: unknown[]) => Promise<{ rows: unknown[] }> }
+  await boss.send(ANALYSE_QUEUE, { recordingId } satisfies AnalyseJob, {
+    expireInSeconds: jobExpirySeconds(),
+    db: { executeSql: (text: string, values: unknown[]) => conn.query(text, values) },
+  } as PgBoss.SendOptions)
+}

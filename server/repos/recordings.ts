@@ -1,0 +1,182 @@
+import type { Knex } from 'knex'
+import type { RecordingStatus } from '../../shared/utils/bench.ts'
+import type { RecordingCurves, RecordingSummary, RecordingView } from '../../shared/types/api.ts'
+
+export interface RecordingRow {
+  id: string
+  unit_id: string
+  station_id: string | null
+  station_profile_id: string | null
+  uploaded_by: string | null
+  uploaded_at: Date
+  kind: 'sweep' | 'impedance_table'
+  original_name: string
+  byte_size: string
+  sha256: string
+  storage_key: string
+  status: RecordingStatus
+  error_code: string | null
+  error_message: string | null
+  attempts: number
+  ambient_c: number | null
+  note: string | null
+  is_return_test: boolean
+}
+
+export interface NewRecording {
+  unitId: number
+  stationId: number | null
+  stationProfileId: number | null
+  uploadedBy: number | null
+  kind: 'sweep' | 'impedance_table'
+  originalName: string
+  byteSize: number
+  sha256: string
+  storageKey: string
+  ambientC: number | null
+  note: string | null
+}
+
+export async function insertRecording(db: Knex, r: NewRecording): Promise<number> {
+  const [row] = await db('recordings')
+    .insert({
+      unit_id: r.unitId,
+      station_id: r.stationId,
+      station_profile_id: r.stationProfileId,
+      uploaded_by: r.uploadedBy,
+      kind: r.kind,
+      original_name: r.originalName,
+      byte_size: r.byteSize,
+      sha256: r.sha256,
+      storage_key: r.storageKey,
+      ambient_c: r.ambientC,
+      note: r.note,
+    })
+    .returning('id')
+  return Number(row.id)
+}
+
+export async function findRecordingByContent(db: Knex, unitId: number, sha256: string): Promise<RecordingRow | undefined> {
+  return db<RecordingRow>('recordings').where({ unit_id: String(unitId), sha256 }).first()
+}
+
+export async function getRecording(db: Knex, id: number): Promise<RecordingRow | undefined> {
+  return db<RecordingRow>('recordings').where({ id: String(id) }).first()
+}
+
+/** Claims a recording for analysis: counts the attempt. Returns false when it is already finished. */
+export async function markAnalysing(db: Knex, id: number): Promise<boolean> {
+  const n = await db('recordings')
+    .where({ id })
+    .whereIn('status', ['queued', 'analysing', 'failed'])
+    .update({ status: 'analysing', attempts: db.raw('attempts + 1') })
+  return n > 0
+}
+
+export async function markFinishedWithError(db: Knex, id: number, status: 'rejected' | 'failed', code: string, message: string): Promise<void> {
+  await db('recordings').where({ id }).whereNot({ status: 'done' }).update({ status, error_code: code, error_message: message.slice(0, 2000), finished_at: db.fn.now() })
+}
+
+function viewQuery(db: Knex) {
+  return db('recordings as r')
+    .join('units as u', 'u.id', 'r.unit_id')
+    .join('products as p', 'p.id', 'u.product_id')
+    .leftJoin('lots as l', 'l.id', 'u.lot_id')
+    .leftJoin('stations as s', 's.id', 'r.station_id')
+    .leftJoin('results as res', 'res.recording_id', 'r.id')
+    .leftJoin('masks as m', 'm.id', 'res.mask_id')
+}
+
+const SUMMARY_COLUMNS = [
+  'r.id', 'r.status', 'r.kind', 'r.uploaded_at', 'r.finished_at', 'r.error_code', 'r.error_message', 'r.station_id', 'r.original_name', 'r.is_return_test',
+  'u.serial', 'p.code as product_code', 'l.code as lot_code', 's.name as station_name',
+  'res.id as result_id', 'res.verdict', 'res.checks', 'm.version as mask_version',
+]
+
+interface SummaryRow {
+  id: string
+  status: RecordingStatus
+  kind: 'sweep' | 'impedance_table'
+  uploaded_at: Date
+  finished_at: Date | null
+  error_code: string | null
+  error_message: string | null
+  station_id: string | null
+  original_name: string
+  is_return_test: boolean
+  serial: string
+  product_code: string
+  lot_code: string | null
+  station_name: string | null
+  result_id: string | null
+  verdict: 'pass' | 'fail' | null
+  checks: { checks: RecordingView['checks']; unmeasured: string[] } | null
+  mask_version: number | null
+}
+
+function toSummary(r: SummaryRow): RecordingSummary {
+  return {
+    id: Number(r.id),
+    serial: r.serial,
+    productCode: r.product_code,
+    lotCode: r.lot_code,
+    stationId: r.station_id === null ? null : Number(r.station_id),
+    stationName: r.station_name,
+    kind: r.kind,
+    status: r.status,
+    verdict: r.verdict,
+    failedChecks: (r.checks?.checks ?? []).filter((c) => !c.pass).map((c) => c.name),
+    uploadedAt: r.uploaded_at.toISOString(),
+    finishedAt: r.finished_at ? r.finished_at.toISOString() : null,
+    originalName: r.original_name,
+    returnTest: r.is_return_test,
+    maskVersion: r.mask_version,
+    error: r.error_code ? { code: r.error_code, message: r.error_message ?? '' } : null,
+  }
+}
+
+/** One recording with its result, as GET /api/recordings/:id answers. */
+export async function getRecordingView(db: Knex, id: number, opts: { curves?: boolean } = {}): Promise<RecordingView | undefined> {
+  const cols = [...SUMMARY_COLUMNS, 'res.parameters', 'res.flags', 'res.engine_version', 'res.timings_ms', 'res.classical']
+  if (opts.curves) cols.push('res.curve_freq_hz', 'res.curve_spl_db', 'res.curve_impedance_ohm', 'res.curve_thd_pct', 'm.limits')
+  const r = await viewQuery(db).where('r.id', id).first(cols)
+  if (!r) return undefined
+  const { unmeasured = [], notes = [], thdAt = [], ...parameters } = (r.parameters ?? {}) as Record<string, unknown>
+  const view: RecordingView = {
+    ...toSummary(r),
+    parameters: r.parameters ? (parameters as RecordingView['parameters']) : null,
+    checks: r.checks?.checks ?? [],
+    unmeasured: [...new Set([...(r.checks?.unmeasured ?? []), ...(unmeasured as string[])])],
+    notes: notes as string[],
+    thdAt: thdAt as RecordingView['thdAt'],
+    flags: r.flags ?? null,
+    classical: r.classical ?? null,
+    engineVersion: r.engine_version ?? null,
+    timingsMs: r.timings_ms ?? null,
+  }
+  if (opts.curves && r.curve_freq_hz) {
+    view.curves = {
+      freqHz: r.curve_freq_hz,
+      splDb: r.curve_spl_db,
+      impedanceOhm: r.curve_impedance_ohm,
+      thdPct: r.curve_thd_pct,
+      maskSplDb: r.limits?.curves?.splDb ?? null,
+      maskImpedanceOhm: r.limits?.curves?.impedanceOhm ?? null,
+    } satisfies RecordingCurves
+  }
+  return view
+}
+
+/** The latest recordings, newest first, optionally of one station. */
+export async function listRecentRecordings(db: Knex, filter: { stationId?: number; limit: number }): Promise<RecordingSummary[]> {
+  const q = viewQuery(db).select(SUMMARY_COLUMNS).orderBy('r.id', 'desc').limit(filter.limit)
+  if (filter.stationId) q.where('r.station_id', filter.stationId)
+  return (await q).map(toSummary)
+}
+
+/** Every recording of a unit, newest first. */
+export async function listUnitRecordings(db: Knex, unitId: number): Promise<RecordingView[]> {
+  const ids = await db('recordings').where({ unit_id: unitId }).orderBy('id', 'desc').pluck('id')
+  const views = await Promise.all(ids.map((id: string) => getRecordingView(db, Number(id))))
+  return views.filter((v): v is RecordingView => v !== undefined)
+}

@@ -1,0 +1,127 @@
+import { createHash, randomBytes } from 'node:crypto'
+import type { Knex } from 'knex'
+import type { StationProfile } from '../analysis/index.ts'
+
+export interface StationSummary {
+  id: number
+  name: string
+  line: string
+  active: boolean
+  tokenHint: string
+  profileId: number
+  profileVersion: number
+  profile: StationProfile
+}
+
+const TOKEN_PREFIX = 'ctst_'
+
+/** A new station token: shown once, stored only as its SHA-256 (it is 256 random bits, so no slow hash is needed). */
+export function newStationToken(): { token: string; hash: string; hint: string } {
+  const token = TOKEN_PREFIX + randomBytes(32).toString('base64url')
+  return { token, hash: hashToken(token), hint: token.slice(0, TOKEN_PREFIX.length + 4) + '…' }
+}
+
+export function hashToken(token: string): string {
+  return createHash('sha256').update(token).digest('hex')
+}
+
+const currentProfile = (db: Knex) =>
+  db('station_profiles as p')
+    .distinctOn('p.station_id')
+    .select('p.station_id', 'p.id as profile_id', 'p.version', 'p.profile')
+    .orderBy([{ column: 'p.station_id' }, { column: 'p.version', order: 'desc' }])
+    .as('cp')
+
+interface StationJoinRow {
+  id: string
+  name: string
+  line: string
+  active: boolean
+  token_hint: string
+  profile_id: string
+  version: number
+  profile: StationProfile
+}
+
+function toStation(r: StationJoinRow): StationSummary {
+  return {
+    id: Number(r.id),
+    name: r.name,
+    line: r.line,
+    active: r.active,
+    tokenHint: r.token_hint,
+    profileId: Number(r.profile_id),
+    profileVersion: r.version,
+    profile: r.profile,
+  }
+}
+
+function stationsQuery(db: Knex) {
+  return db('stations as s').join(currentProfile(db), 'cp.station_id', 's.id').select('s.id', 's.name', 's.line', 's.active', 's.token_hint', 'cp.profile_id', 'cp.version', 'cp.profile')
+}
+
+export async function listStations(db: Knex): Promise<StationSummary[]> {
+  return (await stationsQuery(db).orderBy('s.name')).map(toStation)
+}
+
+export async function getStation(db: Knex, id: number): Promise<StationSummary | undefined> {
+  const r = await stationsQuery(db).where('s.id', id).first()
+  return r && toStation(r)
+}
+
+/** The active station whose token this is, or undefined. */
+export async function getStationByToken(db: Knex, token: string): Promise<StationSummary | undefined> {
+  const r = await stationsQuery(db).where({ 's.token_hash': hashToken(token), 's.active': true }).first()
+  return r && toStation(r)
+}
+
+export async function getProfileVersion(db: Knex, profileId: number): Promise<StationProfile | undefined> {
+  const r = await db('station_profiles').where({ id: profileId }).first()
+  return r?.profile
+}
+
+export interface NewStation {
+  name: string
+  line: string
+  profile: StationProfile
+  createdBy: number | null
+}
+
+/** Creates a station with version 1 of its profile. Returns its id and its token (shown once). */
+export async function createStation(db: Knex, s: NewStation): Promise<{ id: number; token: string }> {
+  const t = newStationToken()
+  return db.transaction(async (trx) => {
+    const [row] = await trx('stations').insert({ name: s.name, line: s.line, token_hash: t.hash, token_hint: t.hint }).returning('id')
+    await trx('station_profiles').insert({ station_id: row.id, version: 1, profile: JSON.stringify(s.profile), created_by: s.createdBy })
+    return { id: Number(row.id), token: t.token }
+  })
+}
+
+export interface StationPatch {
+  name?: string
+  line?: string
+  active?: boolean
+  profile?: StationProfile
+}
+
+/** Edits a station; a changed profile becomes a new version (results keep the version they used). */
+export async function updateStation(db: Knex, id: number, patch: StationPatch, by: number | null): Promise<StationSummary | undefined> {
+  return db.transaction(async (trx) => {
+    const station = await trx('stations').where({ id }).forUpdate().first()
+    if (!station) return undefined
+    const fields = Object.fromEntries(Object.entries({ name: patch.name, line: patch.line, active: patch.active }).filter(([, v]) => v !== undefined))
+    if (Object.keys(fields).length) await trx('stations').where({ id }).update({ ...fields, updated_at: trx.fn.now() })
+    if (patch.profile) {
+      const { max } = (await trx('station_profiles').where({ station_id: id }).max<{ max: number }>('version as max').first())!
+      await trx('station_profiles').insert({ station_id: id, version: max + 1, profile: JSON.stringify(patch.profile), created_by: by })
+    }
+    return getStation(trx, id)
+  })
+}
+
+/** Replaces the station's token; the old one stops working at once. */
+export async function rotateStationToken(db: Knex, id: number): Promise<string | undefined> {
+  const t = newStationToken()
+  const n = await db('stations').where({ id }).update({ token_hash: t.hash, token_hint: t.hint, updated_at: db.fn.now() })
+  return n ? t.token : undefined
+}

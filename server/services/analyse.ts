@@ -1,0 +1,45 @@
+import type { Knex } from 'knex'
+import { analyzeImpedanceTable, analyzeRecording, AnalysisInputError, type AnalysisResult } from '../analysis/index.ts'
+import { getActiveMask } from '../repos/masks.ts'
+import { getRecording, markAnalysing, markFinishedWithError } from '../repos/recordings.ts'
+import { saveResult } from '../repos/results.ts'
+import { getProfileVersion } from '../repos/stations.ts'
+import { getProductById } from '../repos/products.ts'
+import type { RecordingStorage } from '../storage/recordings.ts'
+import { judge } from '../verdict/judge.ts'
+
+export type ProcessOutcome = 'done' | 'rejected' | 'skipped'
+
+/**
+ * Analyses one stored recording and saves its result, judged by the product's released mask when
+ * there is one. Idempotent: a recording already finished is skipped. Input the engine refuses ends
+ * `rejected` (retrying cannot help); other errors are thrown so the queue retries them.
+ */
+export async function processRecording(db: Knex, storage: RecordingStorage, recordingId: number): Promise<ProcessOutcome> {
+  if (!(await markAnalysing(db, recordingId))) return 'skipped'
+  const rec = (await getRecording(db, recordingId))!
+  const unit = await db('units').where({ id: rec.unit_id }).first()
+  const product = (await getProductById(db, Number(unit.product_id)))!
+  const bytes = await storage.read(rec.storage_key)
+  let analysis: AnalysisResult
+  try {
+    const ambientC = rec.ambient_c ?? undefined
+    if (rec.kind === 'sweep') {
+      const profile = rec.station_profile_id ? await getProfileVersion(db, Number(rec.station_profile_id)) : undefined
+      if (!profile) throw new AnalysisInputError('channel_mismatch', 'The recording has no station profile to read it with')
+      analysis = analyzeRecording(bytes, profile, { ambientC, sensitivityBandHz: product.sensitivityBandHz })
+    } else {
+      analysis = analyzeImpedanceTable(bytes.toString('utf8'), { ambientC })
+    }
+  } catch (err) {
+    if (err instanceof AnalysisInputError) {
+      await markFinishedWithError(db, recordingId, 'rejected', err.code, err.message)
+      return 'rejected'
+    }
+    throw err
+  }
+  const mask = await getActiveMask(db, product.id)
+  const judgement = mask ? judge(analysis, mask.limits, product.ratedImpedanceOhm) : null
+  await saveResult(db, { recordingId, unitId: Number(rec.unit_id), analysis, judgement, maskId: mask?.id ?? null })
+  return 'done'
+}

@@ -1,0 +1,125 @@
+import { createHash } from 'node:crypto'
+import { readFile, rm } from 'node:fs/promises'
+import type { Knex } from 'knex'
+import type PgBoss from 'pg-boss'
+import { AnalysisInputError, parseImpedanceTable, validateRecording, type StationProfile } from '../analysis/index.ts'
+import { enqueueAnalysis } from '../queue/index.ts'
+import { findRecordingByContent, insertRecording } from '../repos/recordings.ts'
+import { resolveUnit } from '../repos/units.ts'
+import { newStorageKey, type RecordingStorage } from '../storage/recordings.ts'
+import type { UploadFields } from '../../shared/utils/bench.ts'
+
+/** Why an upload was refused before anything was stored; `status` is the HTTP status to answer. */
+export class UploadRefused extends Error {
+  constructor(
+    readonly status: number,
+    readonly code: string,
+    message: string,
+  ) {
+    super(message)
+  }
+}
+
+export interface UploadSource {
+  tempPath: string
+  originalName: string
+  fields: UploadFields
+  /** The station the upload is for (from its token, or chosen by the signed-in user), with its current profile. */
+  station: { id: number; profileId: number; profile: StationProfile } | null
+  userId: number | null
+}
+
+export interface UploadOutcome {
+  id: number
+  status: 'queued' | 'analysing' | 'done' | 'rejected' | 'failed'
+  duplicate: boolean
+}
+
+const RIFF = Buffer.from('RIFF')
+const WAVE = Buffer.from('WAVE')
+
+/** Sweep recording (RIFF) or impedance table (text); anything else is not ours to read. */
+export function kindOf(bytes: Buffer): 'sweep' | 'impedance_table' {
+  if (bytes.length >= 4 && bytes.subarray(0, 4).equals(RIFF)) return 'sweep'
+  const head = bytes.subarray(0, 4096)
+  if (head.includes(0)) {
+    throw new UploadRefused(415, 'unsupported_file', 'The file is neither a WAVE recording nor a text impedance table')
+  }
+  if (bytes.length >= 12 && bytes.subarray(8, 12).equals(WAVE)) return 'sweep'
+  return 'impedance_table'
+}
+
+const STATUS_OF_CODE: Record<string, number> = { empty_file: 400, not_wave: 415, unsupported_encoding: 415 }
+
+/** Engine validation of the bytes, before anything is stored. */
+export function validateUpload(bytes: Buffer, kind: 'sweep' | 'impedance_table', profile: StationProfile | null): void {
+  try {
+    if (bytes.length === 0) throw new AnalysisInputError('empty_file', 'The file is empty')
+    if (kind === 'sweep') {
+      if (!profile) throw new UploadRefused(422, 'station_required', 'A sweep recording needs its station (its profile tells the channels and calibration)')
+      validateRecording(bytes, profile)
+    } else {
+      parseImpedanceTable(bytes.toString('utf8'))
+    }
+  } catch (err) {
+    if (err instanceof AnalysisInputError) throw new UploadRefused(STATUS_OF_CODE[err.code] ?? 422, err.code, err.message)
+    throw err
+  }
+}
+
+function isUniqueViolation(err: unknown): boolean {
+  return typeof err === 'object' && err !== null && (err as { code?: string }).code === '23505'
+}
+
+/**
+ * Accepts one upload: validates it, then in one transaction registers the unit when new, stores the
+ * file, inserts the recording row and enqueues its analysis. The same file for the same unit again
+ * returns the earlier recording. Nothing is left behind when any step fails.
+ * @throws UploadRefused for input the product cannot take (status and code for the answer).
+ */
+export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: PgBoss, src: UploadSource): Promise<UploadOutcome> {
+  try {
+    const bytes = await readFile(src.tempPath)
+    const kind = kindOf(bytes)
+    validateUpload(bytes, kind, src.station?.profile ?? null)
+    const sha256 = createHash('sha256').update(bytes).digest('hex')
+    const { serial, product, lot, ambientC, note } = src.fields
+    const key = newStorageKey(sha256, kind)
+    let stored = false
+    try {
+      return await db.transaction(async (trx) => {
+        const unit = await resolveUnit(trx, serial, product, lot)
+        const earlier = await findRecordingByContent(trx, Number(unit.id), sha256)
+        if (earlier) return { id: Number(earlier.id), status: earlier.status, duplicate: true }
+        const id = await insertRecording(trx, {
+          unitId: Number(unit.id),
+          stationId: src.station?.id ?? null,
+          stationProfileId: src.station?.profileId ?? null,
+          uploadedBy: src.userId,
+          kind,
+          originalName: src.originalName.slice(0, 255),
+          byteSize: bytes.length,
+          sha256,
+          storageKey: key,
+          ambientC: ambientC ?? null,
+          note: note ?? null,
+        })
+        await storage.putFile(key, src.tempPath)
+        stored = true
+        await enqueueAnalysis(boss, trx, id)
+        return { id, status: 'queued' as const, duplicate: false }
+      })
+    } catch (err) {
+      if (stored) await storage.remove(key)
+      if (isUniqueViolation(err)) {
+        // A concurrent retry of the same file won the race: answer with its recording.
+        const unit = await db('units').where({ serial }).first()
+        const earlier = unit && (await findRecordingByContent(db, Number(unit.id), sha256))
+        if (earlier) return { id: Number(earlier.id), status: earlier.status, duplicate: true }
+      }
+      throw err
+    }
+  } finally {
+    await rm(src.tempPath, { force: true })
+  }
+}

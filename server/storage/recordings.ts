@@ -1,0 +1,65 @@
+import { randomUUID } from 'node:crypto'
+import { copyFile, mkdir, open, readFile, rename, rm } from 'node:fs/promises'
+import { dirname, join, resolve, sep } from 'node:path'
+
+/**
+ * Where raw recordings live. Kept behind this small interface so an S3-compatible store can
+ * replace the directory without touching the routes or the worker.
+ */
+export interface RecordingStorage {
+  /** Moves a finished temporary file into the store under `key`, durably (fsync) before returning. */
+  putFile(key: string, fromPath: string): Promise<void>
+  read(key: string): Promise<Buffer>
+  remove(key: string): Promise<void>
+}
+
+/** A key that never collides: date folders, a random id, the start of the content hash. */
+export function newStorageKey(sha256: string, kind: 'sweep' | 'impedance_table', now = new Date()): string {
+  const ext = kind === 'sweep' ? 'wav' : 'txt'
+  const y = now.getUTCFullYear()
+  const m = String(now.getUTCMonth() + 1).padStart(2, '0')
+  return `${y}/${m}/${randomUUID()}-${sha256.slice(0, 12)}.${ext}`
+}
+
+export class DirectoryStorage implements RecordingStorage {
+  constructor(private readonly root: string) {}
+
+  private pathOf(key: string): string {
+    const p = resolve(this.root, key)
+    if (!p.startsWith(resolve(this.root) + sep)) throw new Error(`storage key escapes the store: ${key}`)
+    return p
+  }
+
+  async putFile(key: string, fromPath: string): Promise<void> {
+    const dest = this.pathOf(key)
+    await mkdir(dirname(dest), { recursive: true })
+    try {
+      await rename(fromPath, dest)
+    } catch (err) {
+      if ((err as NodeJS.ErrnoException).code !== 'EXDEV') throw err
+      await copyFile(fromPath, dest)
+      await rm(fromPath, { force: true })
+    }
+    // The row that points here commits after this returns: make the bytes and the name durable first.
+    for (const p of [dest, dirname(dest)]) {
+      const fh = await open(p, 'r')
+      try {
+        await fh.sync()
+      } finally {
+        await fh.close()
+      }
+    }
+  }
+
+  read(key: string): Promise<Buffer> {
+    return readFile(this.pathOf(key))
+  }
+
+  async remove(key: string): Promise<void> {
+    await rm(this.pathOf(key), { force: true })
+  }
+}
+
+export function directoryStorage(dataDir: string): DirectoryStorage {
+  return new DirectoryStorage(join(dataDir, 'recordings'))
+}

@@ -1,0 +1,116 @@
+import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analysis/index.ts'
+import { RATED_IMPEDANCE_MIN_FRACTION } from '../analysis/index.ts'
+import { CHECK_LABELS, SCALAR_LIMIT_NAMES, type MaskLimits } from '../../shared/utils/mask.ts'
+
+/** One limit applied to one figure or curve (glossary: check). */
+export interface Check {
+  name: string
+  value: number | null
+  low: number | null
+  high: number | null
+  unit: string
+  pass: boolean
+  /** For curve checks: the frequency of the worst excursion. */
+  atHz?: number
+}
+
+export interface Judgement {
+  verdict: 'pass' | 'fail'
+  checks: Check[]
+  /** Checks the mask holds that this result's data cannot show (e.g. acoustic checks on an impedance table). */
+  unmeasured: string[]
+}
+
+export interface Judgeable {
+  parameters: Pick<AnalysisParameters, 'reOhm' | 're20Ohm' | 'fsHz' | 'qts' | 'sensitivityDb' | 'thdMaxPct' | 'rubBuzzDb' | 'zminOhm' | 'effectiveImpedanceOhm'>
+  flags: Pick<AnalysisFlags, 'polarity' | 'openCoil' | 'shortedCoil'>
+  curves: Pick<AnalysisCurves, 'freqHz' | 'splDb' | 'impedanceOhm'>
+}
+
+function scalarValue(r: Judgeable, name: (typeof SCALAR_LIMIT_NAMES)[number]): number | null {
+  // Without an ambient temperature Re cannot be referred to 20 °C: judge the raw value.
+  if (name === 're20Ohm') return r.parameters.re20Ohm ?? r.parameters.reOhm
+  return r.parameters[name]
+}
+
+/** Interpolates a limit curve (log frequency) at f; null outside its range or where the limit is open. */
+function limitAt(freqHz: number[], values: (number | null)[], f: number): number | null {
+  if (f < freqHz[0]! || f > freqHz[freqHz.length - 1]!) return null
+  let i = 1
+  while (i < freqHz.length - 1 && freqHz[i]! < f) i++
+  const f0 = freqHz[i - 1]!
+  const f1 = freqHz[i]!
+  const v0 = values[i - 1]
+  const v1 = values[i]
+  if (v0 == null || v1 == null) return f === f1 ? (v1 ?? null) : f === f0 ? (v0 ?? null) : null
+  const t = f1 === f0 ? 0 : Math.log(f / f0) / Math.log(f1 / f0)
+  return v0 + t * (v1 - v0)
+}
+
+function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>): Check | null {
+  const values = r.curves[name]
+  if (!values) return null
+  let worst = 0
+  let atHz: number | undefined
+  let compared = 0
+  r.curves.freqHz.forEach((f, i) => {
+    const v = values[i]
+    if (v == null) return
+    const lo = limitAt(limit.freqHz, limit.low, f)
+    const hi = limitAt(limit.freqHz, limit.high, f)
+    if (lo === null && hi === null) return
+    compared++
+    const excess = Math.max(lo !== null ? lo - v : 0, hi !== null ? v - hi : 0)
+    if (excess > worst) {
+      worst = excess
+      atHz = f
+    }
+  })
+  if (compared === 0) return null
+  return { name, value: round(worst), low: null, high: 0, unit: CHECK_LABELS[name]!.unit, pass: worst <= 0, ...(atHz ? { atHz: round(atHz) } : {}) }
+}
+
+function round(x: number, digits = 4): number {
+  return Number(x.toPrecision(digits + 2))
+}
+
+/**
+ * Applies a mask to one result. Fixed checks first (coil continuity, polarity, the rated-impedance
+ * rule of IEC 60268-5), then the scalar limits, then the curves. A check whose figure the result
+ * could not measure is listed in `unmeasured` and does not decide the verdict.
+ */
+export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: number): Judgement {
+  const checks: Check[] = []
+  const unmeasured: string[] = []
+  const { parameters: p, flags } = r
+
+  checks.push({ name: 'coil', value: p.effectiveImpedanceOhm, low: null, high: null, unit: 'Ω', pass: !flags.openCoil && !flags.shortedCoil })
+  if (limits.polarityNormal) {
+    if (flags.polarity === null) unmeasured.push('polarity')
+    else checks.push({ name: 'polarity', value: flags.polarity === 'normal' ? 1 : -1, low: 1, high: null, unit: '', pass: flags.polarity === 'normal' })
+  }
+  if (limits.ratedImpedanceRule) {
+    const low = RATED_IMPEDANCE_MIN_FRACTION * ratedImpedanceOhm
+    if (p.zminOhm === null) unmeasured.push('ratedImpedance')
+    else checks.push({ name: 'ratedImpedance', value: round(p.zminOhm), low: round(low), high: null, unit: 'Ω', pass: p.zminOhm >= low })
+  }
+  for (const name of SCALAR_LIMIT_NAMES) {
+    const lim = limits.scalars[name]
+    if (!lim) continue
+    const value = scalarValue(r, name)
+    if (value === null || !Number.isFinite(value)) {
+      unmeasured.push(name)
+      continue
+    }
+    const pass = (lim.low === null || value >= lim.low) && (lim.high === null || value <= lim.high)
+    checks.push({ name, value: round(value), low: lim.low, high: lim.high, unit: CHECK_LABELS[name]!.unit, pass })
+  }
+  for (const name of ['splDb', 'impedanceOhm'] as const) {
+    const lim = limits.curves[name]
+    if (!lim) continue
+    const c = curveCheck(name, r, lim)
+    if (c) checks.push(c)
+    else unmeasured.push(name)
+  }
+  return { verdict: checks.every((c) => c.pass) ? 'pass' : 'fail', checks, unmeasured }
+}

@@ -1,0 +1,75 @@
+/**
+ * The analysis worker: takes `analyse-recording` jobs from pg-boss and turns each stored recording
+ * into a result. Run it as often as you like, on as many machines as you like, against the same
+ * database:  node --import tsx workers/analyze.ts
+ *
+ * A job whose worker dies is expired by pg-boss and retried by another (or the restarted) worker;
+ * a recording that keeps failing ends `failed` with its error.
+ */
+import knex from 'knex'
+import type PgBoss from 'pg-boss'
+import { knexConfig } from '../knexfile'
+import { loadConfig } from '../server/utils/config'
+import { ANALYSE_QUEUE, createBoss, ensureQueue, type AnalyseJob } from '../server/queue/index'
+import { markFinishedWithError } from '../server/repos/recordings'
+import { processRecording } from '../server/services/analyse'
+import { directoryStorage } from '../server/storage/recordings'
+
+const cfg = loadConfig()
+const db = knex(knexConfig(cfg.databaseUrl))
+const storage = directoryStorage(cfg.dataDir)
+const boss = createBoss(cfg.databaseUrl, { supervise: true })
+const concurrency = Math.max(1, Number(process.env.CONETRAIL_WORKER_CONCURRENCY) || 2)
+// Test hook only: hang on every job, so a test can kill the worker mid-job.
+const hangForTest = process.env.CONETRAIL_WORKER_HANG === '1'
+
+function log(msg: string) {
+  console.log(`[worker ${process.pid}] ${msg}`)
+}
+
+async function handle(job: PgBoss.JobWithMetadata<AnalyseJob>) {
+  const id = job.data.recordingId
+  if (hangForTest) {
+    await db('recordings').where({ id }).update({ status: 'analysing' })
+    await new Promise(() => {})
+  }
+  try {
+    const outcome = await processRecording(db, storage, id)
+    if (outcome !== 'skipped') log(`recording ${id}: ${outcome}`)
+  } catch (err) {
+    const message = err instanceof Error ? err.message : String(err)
+    if (job.retryCount >= job.retryLimit) {
+      await markFinishedWithError(db, id, 'failed', 'analysis_failed', message)
+      log(`recording ${id}: failed for good after ${job.retryCount + 1} tries: ${message}`)
+      return
+    }
+    log(`recording ${id}: try ${job.retryCount + 1} failed, will retry: ${message}`)
+    throw err
+  }
+}
+
+async function main() {
+  boss.on('error', (err) => log(`queue error: ${err.message}`))
+  await boss.start()
+  await ensureQueue(boss)
+  for (let i = 0; i < concurrency; i++) {
+    await boss.work<AnalyseJob>(ANALYSE_QUEUE, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => handle(job!))
+  }
+  log(`waiting for recordings (${concurrency} at a time)`)
+}
+
+let stopping = false
+async function stop() {
+  if (stopping) return
+  stopping = true
+  await boss.stop({ graceful: true, wait: true, timeout: 10_000 }).catch(() => {})
+  await db.destroy()
+  process.exit(0)
+}
+process.on('SIGINT', stop)
+process.on('SIGTERM', stop)
+
+main().catch((err: unknown) => {
+  log(`cannot start: ${err instanceof Error ? err.message : String(err)}`)
+  process.exit(1)
+})
