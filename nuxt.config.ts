@@ -6,6 +6,8 @@ export default defineNuxtConfig({
   // The repository root is the source directory (design card); set explicitly so an
   // app/ folder created later cannot silently take over.
   srcDir: '.',
+  // The test setup builds in its own folders, so test runs never disturb a dev build or each other.
+  ...(process.env.CONETRAIL_BUILD_DIR ? { buildDir: process.env.CONETRAIL_BUILD_DIR } : {}),
   devtools: { enabled: false },
   telemetry: false,
   modules: ['@nuxtjs/tailwindcss', '@pinia/nuxt', 'nuxt-auth-utils'],

@@ -70,7 +70,7 @@ export default async function setup(project: TestProject) {
   await unregister()
 
   const outputDir = resolve(dataDir, 'build')
-  const env = { ...process.env, CONETRAIL_OUTPUT_DIR: outputDir }
+  const env = { ...process.env, CONETRAIL_OUTPUT_DIR: outputDir, CONETRAIL_BUILD_DIR: resolve(dataDir, 'nuxt') }
   if (process.env.CONETRAIL_TEST_SKIP_BUILD !== '1') {
     const b = spawnSync(process.execPath, [resolve(root, 'node_modules/nuxt/bin/nuxt.mjs'), 'build'], { cwd: root, env, stdio: ['ignore', 'ignore', 'inherit'] })
     if (b.status !== 0) throw new Error('nuxt build failed for the e2e tests')
