@@ -89,6 +89,8 @@ export default async function setup(project: TestProject) {
       CONETRAIL_DATA_DIR: dataDir,
       NUXT_SESSION_PASSWORD: randomBytes(36).toString('base64url'),
       ...TEST_QUEUE_ENV,
+      // Small, so the 413 test need not send a large body.
+      CONETRAIL_MAX_UPLOAD_MB: '8',
     },
   })
   const baseUrl = `http://127.0.0.1:${appPort}/`

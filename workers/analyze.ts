@@ -20,6 +20,8 @@ const db = knex(knexConfig(cfg.databaseUrl))
 const storage = directoryStorage(cfg.dataDir)
 const boss = createBoss(cfg.databaseUrl, { supervise: true })
 const concurrency = Math.max(1, Number(process.env.CONETRAIL_WORKER_CONCURRENCY) || 2)
+/** Jobs fetched per poll: pg-boss waits its polling interval between fetches, so one job a fetch would cap throughput. */
+const BATCH_SIZE = 8
 // Test hook only: hang on every job, so a test can kill the worker mid-job.
 const hangForTest = process.env.CONETRAIL_WORKER_HANG === '1'
 
@@ -44,7 +46,8 @@ async function handle(job: PgBoss.JobWithMetadata<AnalyseJob>) {
       return
     }
     log(`recording ${id}: try ${job.retryCount + 1} failed, will retry: ${message}`)
-    throw err
+    // Only this job goes back to the queue; the others of its batch complete normally.
+    await boss.fail(ANALYSE_QUEUE, job.id, { message })
   }
 }
 
@@ -53,7 +56,9 @@ async function main() {
   await boss.start()
   await ensureQueue(boss)
   for (let i = 0; i < concurrency; i++) {
-    await boss.work<AnalyseJob>(ANALYSE_QUEUE, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async ([job]) => handle(job!))
+    await boss.work<AnalyseJob>(ANALYSE_QUEUE, { batchSize: BATCH_SIZE, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async (jobs) => {
+      for (const job of jobs) await handle(job)
+    })
   }
   log(`waiting for recordings (${concurrency} at a time)`)
 }

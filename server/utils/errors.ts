@@ -54,3 +54,14 @@ export function toHttpError(err: unknown): unknown {
   if (err instanceof AnalysisInputError) return httpError(422, err.code, err.message)
   return err
 }
+
+/** Validates a value outside h3's validated readers (e.g. a nested profile, multipart fields). @throws 400 `invalid_input` naming each field. */
+export function parseInput<T>(schema: { parse: (v: unknown) => T }, value: unknown, prefix = ''): T {
+  try {
+    return zodValidator(schema)(value)
+  } catch (err) {
+    if (!(err instanceof InputValidationError)) throw err
+    const issues = err.issues.map((i) => ({ ...i, path: [prefix, i.path].filter(Boolean).join('.') }))
+    throw httpError(400, err.code, issues.map((i) => (i.path ? `${i.path}: ${i.message}` : i.message)).join('; '), { issues })
+  }
+}

@@ -5,7 +5,7 @@ import { stationCreateSchema } from '../../../shared/utils/bench'
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
   const body = await readValidatedBody(event, zodValidator(stationCreateSchema))
-  const profile = zodValidator(stationProfileSchema)(body.profile)
+  const profile = parseInput(stationProfileSchema, body.profile, 'profile')
   const db = useDb()
   if (await db('stations').where({ name: body.name }).first()) throw httpError(409, 'duplicate_station', `A station named ${body.name} exists`)
   const created = await createStation(db, { name: body.name, line: body.line, profile, createdBy: user.id })

@@ -1,0 +1,44 @@
+import { expect } from 'vitest'
+import type { RecordingView, UploadAccepted } from '../../shared/types/api'
+
+export type Auth = { cookie: string } | { token: string } | Record<string, never>
+
+function headersOf(auth: Auth): Record<string, string> {
+  if ('cookie' in auth) return { cookie: auth.cookie }
+  if ('token' in auth) return { authorization: `Bearer ${auth.token}` }
+  return {}
+}
+
+/** POSTs a multipart upload to /api/recordings the way station software does. */
+export async function postRecording(
+  host: string,
+  auth: Auth,
+  fields: Record<string, string | number | undefined>,
+  file: { bytes: Uint8Array | string; name: string } | null,
+): Promise<{ status: number; body: UploadAccepted & { message?: string; data?: { code: string } } }> {
+  const form = new FormData()
+  for (const [k, v] of Object.entries(fields)) if (v !== undefined) form.append(k, String(v))
+  if (file) form.append('file', new Blob([typeof file.bytes === 'string' ? file.bytes : Buffer.from(file.bytes)]), file.name)
+  const res = await fetch(new URL('/api/recordings', host), { method: 'POST', headers: headersOf(auth), body: form })
+  return { status: res.status, body: (await res.json()) as never }
+}
+
+export async function getRecording(host: string, auth: Auth, id: number, query = ''): Promise<{ status: number; body: RecordingView }> {
+  const res = await fetch(new URL(`/api/recordings/${id}${query}`, host), { headers: headersOf(auth) })
+  return { status: res.status, body: (await res.json()) as RecordingView }
+}
+
+/** Polls a recording until the worker has finished with it (done, rejected or failed). */
+export async function waitFinished(host: string, auth: Auth, id: number, timeoutMs = 30_000): Promise<RecordingView> {
+  let last: RecordingView | undefined
+  await expect
+    .poll(
+      async () => {
+        last = (await getRecording(host, auth, id)).body
+        return ['done', 'rejected', 'failed'].includes(last.status)
+      },
+      { timeout: timeoutMs, interval: 150 },
+    )
+    .toBe(true)
+  return last!
+}
