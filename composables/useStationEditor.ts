@@ -1,0 +1,87 @@
+import type { StationView } from '#shared/types/api'
+import type { ProfileDraft } from '../components/station/StationProfileForm.vue'
+
+const DEFAULT_DRAFT: ProfileDraft = {
+  channels: 'mic, drive, sense',
+  fullScaleV: '1, 20, 2',
+  micSensitivityVPerPa: 0.02,
+  micDistanceM: 0.1,
+  senseResistorOhm: 1,
+  f1Hz: 20,
+  f2Hz: 20000,
+  durationS: 1,
+  preSilenceS: 0.05,
+  levelVrms: 2,
+}
+
+const list = (s: string) => s.split(/[,\s]+/).filter(Boolean)
+
+export function draftOf(profile?: StationView['profile']): ProfileDraft {
+  if (!profile) return { ...DEFAULT_DRAFT }
+  const p = profile as { channels: string[]; fullScaleV: number[]; sweep: Record<string, number> } & Record<string, number>
+  return {
+    channels: p.channels.join(', '),
+    fullScaleV: p.fullScaleV.join(', '),
+    micSensitivityVPerPa: p.micSensitivityVPerPa!,
+    micDistanceM: p.micDistanceM!,
+    senseResistorOhm: p.senseResistorOhm!,
+    f1Hz: p.sweep.f1Hz!,
+    f2Hz: p.sweep.f2Hz!,
+    durationS: p.sweep.durationS!,
+    preSilenceS: p.sweep.preSilenceS!,
+    levelVrms: p.sweep.levelVrms!,
+  }
+}
+
+export function profileOf(d: ProfileDraft) {
+  return {
+    channels: list(d.channels),
+    fullScaleV: list(d.fullScaleV).map(Number),
+    micSensitivityVPerPa: d.micSensitivityVPerPa,
+    micDistanceM: d.micDistanceM,
+    senseResistorOhm: d.senseResistorOhm,
+    sweep: { f1Hz: d.f1Hz, f2Hz: d.f2Hz, durationS: d.durationS, preSilenceS: d.preSilenceS, levelVrms: d.levelVrms },
+  }
+}
+
+/** Create, edit (a new profile version) and token rotation for the Stations page. */
+export function useStationEditor() {
+  const error = ref<string | null>(null)
+  const busy = ref(false)
+  const issued = ref<{ name: string; token: string } | null>(null)
+
+  async function run<T>(fn: () => Promise<T>): Promise<T | undefined> {
+    error.value = null
+    busy.value = true
+    try {
+      const out = await fn()
+      await refreshNuxtData('stations')
+      return out
+    } catch (err) {
+      error.value = apiErrorOf(err).message
+      return undefined
+    } finally {
+      busy.value = false
+    }
+  }
+
+  const create = (name: string, line: string, draft: ProfileDraft) =>
+    run(async () => {
+      const r = await $fetch<{ id: number; token: string }>('/api/stations', { method: 'POST', body: { name, line, profile: profileOf(draft) } })
+      issued.value = { name, token: r.token }
+      return r
+    })
+  // Plain string URLs: Nitro's typed-route inference overflows on template literals.
+  const save = (id: number, draft: ProfileDraft) => {
+    const url: string = `/api/stations/${id}`
+    return run(() => $fetch<StationView>(url, { method: 'PATCH', body: { profile: profileOf(draft) } }))
+  }
+  const rotate = (s: StationView) =>
+    run(async () => {
+      const url: string = `/api/stations/${s.id}/token`
+      const r = await $fetch<{ token: string }>(url, { method: 'POST' })
+      issued.value = { name: s.name, token: r.token }
+    })
+
+  return { error, busy, issued, create, save, rotate, newDraft: () => ({ ...DEFAULT_DRAFT }) }
+}
