@@ -1,0 +1,54 @@
+import type { Browser } from 'playwright-core'
+import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
+import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
+import { launchBrowser } from '../support/browser'
+import { unique } from '../support/db'
+
+const baseUrl = inject('baseUrl')
+let browser: Browser
+
+beforeAll(async () => {
+  browser = await launchBrowser()
+}, 300_000)
+
+afterAll(async () => {
+  await browser?.close()
+})
+
+async function tokenWorks(token: string): Promise<number> {
+  return (await fetch(new URL('/api/recordings?limit=1', baseUrl), { headers: { authorization: `Bearer ${token}` } })).status
+}
+
+describe('an engineer sets up a station in the browser', () => {
+  it('creates it, copies the token shown once, and replaces the token', async () => {
+    const page = await browser.newPage({ viewport: { width: 1366, height: 768 } })
+    await page.goto(new URL('/login?redirect=/stations', baseUrl).toString())
+    await page.fill('input[name=email]', demoEmail('engineer'))
+    await page.fill('input[name=password]', DEMO_PASSWORD)
+    await page.click('button[type=submit]')
+    await page.waitForURL(/\/stations$/)
+
+    const name = unique('Line 7 EOL')
+    await page.getByRole('button', { name: 'Add a station' }).click()
+    await page.fill('input[name=station-name]', name)
+    await page.fill('input[name=station-line]', '7')
+    await page.getByRole('button', { name: 'Create station' }).click()
+
+    const notice = page.getByTestId('station-token')
+    await expect.poll(() => notice.textContent()).toContain(name)
+    const first = (await notice.locator('p.font-mono').textContent())!.trim()
+    expect(first).toMatch(/^ctst_/)
+    expect(await tokenWorks(first)).toBe(200)
+    await page.getByRole('button', { name: 'I have copied it' }).click()
+    expect(await notice.count()).toBe(0)
+
+    const card = page.locator('article', { hasText: name })
+    await card.getByRole('button', { name: 'Issue a new token' }).click()
+    await expect.poll(() => notice.count()).toBe(1)
+    const second = (await notice.locator('p.font-mono').textContent())!.trim()
+    expect(second).not.toBe(first)
+    expect(await tokenWorks(second)).toBe(200)
+    expect(await tokenWorks(first)).toBe(401)
+    await page.close()
+  })
+})
