@@ -64,7 +64,15 @@ export function checkValueText(c: CheckView): string {
   return formatFigure(c.value)
 }
 
+/** A bound of a check as the table shows it (polarity has a required state, not a number). */
+export function checkBoundText(c: CheckView, side: 'low' | 'high'): string {
+  if (c.name === 'polarity') return side === 'low' && c.low !== null ? 'normal' : '–'
+  // A curve check's value is its worst excursion beyond the mask band; the bounds are the band itself.
+  if (c.name === 'splDb' || c.name === 'impedanceOhm') return 'mask'
+  return formatFigure(c[side])
+}
+
 /** Local clock time of an ISO timestamp, e.g. 14:03:27. */
 export function clockTime(iso: string): string {
-  return new Date(iso).toLocaleTimeString([], { hour: '2-digit', minute: '2-digit', second: '2-digit' })
+  return new Date(iso).toLocaleTimeString([], { hour: '2-digit', minute: '2-digit', second: '2-digit', hourCycle: 'h23' })
 }
