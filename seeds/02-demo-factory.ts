@@ -27,7 +27,7 @@ import { PRODUCTS, STATIONS, planScenario, type PlannedTest, type PlannedUnit } 
 const END_BEFORE_NOW_MIN = 10
 /** A station's upload is analysed within a couple of seconds (shown as finished_at). */
 const ANALYSIS_SECONDS = 2
-/** Recordings stored and analysed at once (measured: 3 keeps both cores of a small machine busy). */
+/** Recordings stored and analysed at once, so file and database syncs overlap with rendering and analysis. */
 const IN_FLIGHT = 4
 
 interface Ctx {
@@ -129,7 +129,9 @@ export async function seed(knex: Knex): Promise<void> {
     // 1. Tested before any mask existed: these results stay unjudged.
     for (const { u, t } of tests.filter(({ t }) => t.phase === 'before_mask')) await record(ctx, u, t, await pool.render(t))
 
-    // 2. Golden units: analysed as the station would, then the first mask of each product.
+    // 2. Golden units: analysed in memory exactly as processRecording will (same bytes, profile,
+    //    ambient and band), then the first mask of each product. Their recordings are stored in
+    //    step 3 and judged by that mask, as releasing a mask judges never-judged results (issue 5).
     const goldenTests = tests.filter(({ t }) => t.phase === 'golden')
     const goldenBytes = new Map<PlannedTest, Rendered>()
     await Promise.all(goldenTests.map(async ({ t }) => goldenBytes.set(t, await pool.render(t))))

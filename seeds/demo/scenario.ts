@@ -259,6 +259,13 @@ export interface ScenarioPlan {
   spanMin: number
 }
 
+/**
+ * With a dozen golden units and k = 3, a good unit falls outside a two-sided limit about 1.5 % of
+ * the time per figure (Student's t with 11 degrees of freedom at 3/√(1 + 1/12) ≈ 2.88), so some
+ * seeds draw goldens that understate the spread and fail good units on Fs or sensitivity. This
+ * seed was picked among 200 for goldens that represent their line, so the demo's failures are the
+ * planted ones.
+ */
 export const DEFAULT_SCENARIO_SEED = 2643
 /** Golden units per product: more than the minimum of five, since σ from few units is itself uncertain. */
 export const GOLDEN_PER_PRODUCT = 12
