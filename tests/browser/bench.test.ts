@@ -52,6 +52,9 @@ beforeAll(async () => {
   files.clipped = write('unit-clipped.wav', generateRecording({ seed: 14, defect: 'clipped' }))
 
   page = await browser.newPage({ viewport: { width: 1366, height: 768 } })
+  // Listening early turns on file-chooser interception before a key press opens one (a late
+  // listener races a keyboard-opened chooser, which would then open natively and be lost).
+  page.on('filechooser', () => {})
   await page.goto(new URL('/login?redirect=/bench', baseUrl).toString())
   await page.fill('input[name=email]', demoEmail('technician'))
   await page.fill('input[name=password]', DEMO_PASSWORD)
@@ -163,6 +166,11 @@ describe('the bench page', () => {
     await page.getByTestId('bench-serial').press('Enter')
     await expect.poll(() => page.getByTestId('bench-hint').textContent()).toContain('Choose the recording file')
     expect(await activeTestId()).toBe('bench-choose')
+    // A file dropped on the zone is taken as the recording.
+    const dropped = await page.evaluateHandle('(() => { const d = new DataTransfer(); d.items.add(new File(["f 1"], "dropped-table.txt")); return d })()')
+    await page.getByTestId('bench-dropzone').dispatchEvent('drop', { dataTransfer: dropped })
+    await expect.poll(() => page.getByTestId('bench-file-name').textContent()).toBe('dropped-table.txt')
+    expect(await page.getByTestId('bench-hint').textContent()).not.toContain('Choose the recording file')
     await page.getByTestId('bench-serial').fill('')
   })
 
