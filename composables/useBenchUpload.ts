@@ -5,6 +5,8 @@ export interface BenchUploadRequest {
   file: File
   stationId: number | null
   productCode: string | null
+  lotCode?: string
+  ambientC?: number | null
 }
 
 /** The rejection of a failed upload, shaped like a $fetch error so apiErrorOf reads it. */
@@ -40,6 +42,8 @@ export function uploadRecording(req: BenchUploadRequest, onProgress: (fraction: 
   form.append('serial', req.serial)
   if (req.productCode) form.append('product', req.productCode)
   if (req.stationId !== null) form.append('station', String(req.stationId))
+  if (req.lotCode?.trim()) form.append('lot', req.lotCode.trim())
+  if (typeof req.ambientC === 'number' && Number.isFinite(req.ambientC)) form.append('ambientC', String(req.ambientC))
   form.append('file', req.file, req.file.name)
 
   return new Promise((resolve, reject) => {

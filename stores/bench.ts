@@ -6,10 +6,12 @@ const STORAGE_KEY = 'conetrail.bench.v1'
 interface BenchChoice {
   stationId: number | null
   productCode: string | null
+  lotCode: string
+  ambientC: number | null
 }
 
 function readChoice(): BenchChoice {
-  const empty: BenchChoice = { stationId: null, productCode: null }
+  const empty: BenchChoice = { stationId: null, productCode: null, lotCode: '', ambientC: null }
   if (!import.meta.client) return empty
   try {
     const raw: unknown = JSON.parse(localStorage.getItem(STORAGE_KEY) ?? 'null')
@@ -18,6 +20,8 @@ function readChoice(): BenchChoice {
     return {
       stationId: typeof r.stationId === 'number' ? r.stationId : null,
       productCode: typeof r.productCode === 'string' ? r.productCode : null,
+      lotCode: typeof r.lotCode === 'string' ? r.lotCode : '',
+      ambientC: typeof r.ambientC === 'number' ? r.ambientC : null,
     }
   } catch {
     return empty // storage blocked or a damaged value: start from nothing
@@ -31,6 +35,9 @@ function readChoice(): BenchChoice {
 export const useBenchStore = defineStore('bench', () => {
   const stationId = ref<number | null>(null)
   const productCode = ref<string | null>(null)
+  /** Lot on the line and room temperature (Re is then referred to 20 °C): set once per shift. */
+  const lotCode = ref('')
+  const ambientC = ref<number | null>(null)
   let restored = false
 
   /** Reads the saved choice; call from onMounted so server and client render the same first. */
@@ -40,16 +47,18 @@ export const useBenchStore = defineStore('bench', () => {
     const saved = readChoice()
     stationId.value = saved.stationId
     productCode.value = saved.productCode
+    lotCode.value = saved.lotCode
+    ambientC.value = saved.ambientC
   }
 
-  watch([stationId, productCode], () => {
+  watch([stationId, productCode, lotCode, ambientC], () => {
     if (!import.meta.client || !restored) return
     try {
-      localStorage.setItem(STORAGE_KEY, JSON.stringify({ stationId: stationId.value, productCode: productCode.value }))
+      localStorage.setItem(STORAGE_KEY, JSON.stringify({ stationId: stationId.value, productCode: productCode.value, lotCode: lotCode.value, ambientC: ambientC.value }))
     } catch {
       // storage full or blocked: the choice lives until the tab closes
     }
   })
 
-  return { stationId, productCode, restore }
+  return { stationId, productCode, lotCode, ambientC, restore }
 })

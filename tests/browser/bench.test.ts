@@ -84,6 +84,8 @@ describe('the bench page', () => {
     await shot('bench-empty')
     await page.getByTestId('bench-station').selectOption(String(station.id))
     await page.getByTestId('bench-product').selectOption(judged.code)
+    await page.getByTestId('bench-lot').fill('LOT-A1')
+    await page.getByTestId('bench-ambient').fill('24')
     await page.getByTestId('bench-file').setInputFiles(files.good)
     await expect.poll(() => page.getByTestId('bench-file-name').textContent()).toBe('unit-good.wav')
 
@@ -98,6 +100,11 @@ describe('the bench page', () => {
     const fsHz = Number(/([\d.]+)\s*Hz/.exec(fs ?? '')?.[1])
     expect(fsHz).toBeGreaterThan(35)
     expect(fsHz).toBeLessThan(52)
+    // With the room temperature given, Re is referred to 20 °C (copper, IEC 60028): lower than at 24 °C.
+    const re = Number(/([\d.]+)\s*Ω/.exec((await page.getByTestId('figure-reOhm').textContent()) ?? '')?.[1])
+    const re20 = Number(/([\d.]+)\s*Ω/.exec((await page.getByTestId('figure-re20Ohm').textContent()) ?? '')?.[1])
+    expect(re20).toBeGreaterThan(0)
+    expect(re20).toBeLessThan(re)
     expect(await page.getByTestId('failed-checks').count()).toBe(0)
     expect(await page.locator('[data-testid=bench-checks] [data-check=polarity]').textContent()).toContain('normal')
     expect(await page.locator('[data-testid=bench-checks] [data-check=splDb]').textContent()).toContain('inside')
