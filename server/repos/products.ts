@@ -1,3 +1,4 @@
+import type { ProductView } from '../../shared/types/api.ts'
 import type { Knex } from 'knex'
 
 export interface ProductRow {
@@ -11,15 +12,8 @@ export interface ProductRow {
   active_mask_id: string | null
 }
 
-export interface ProductSummary {
-  id: number
-  code: string
-  name: string
-  ratedImpedanceOhm: number
-  nominalSize: string
-  sensitivityBandHz: [number, number]
-  activeMaskId: number | null
-}
+/** A product as the API shows it (shared type). */
+export type ProductSummary = ProductView
 
 export function toProduct(r: ProductRow): ProductSummary {
   return {

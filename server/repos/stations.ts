@@ -1,17 +1,10 @@
 import { createHash, randomBytes } from 'node:crypto'
 import type { Knex } from 'knex'
 import type { StationProfile } from '../analysis/index.ts'
+import type { StationView } from '../../shared/types/api.ts'
 
-export interface StationSummary {
-  id: number
-  name: string
-  line: string
-  active: boolean
-  tokenHint: string
-  profileId: number
-  profileVersion: number
-  profile: StationProfile
-}
+/** A station as the API shows it, with its profile typed by the engine's schema. */
+export type StationSummary = Omit<StationView, 'profile'> & { profile: StationProfile }
 
 const TOKEN_PREFIX = 'ctst_'
 

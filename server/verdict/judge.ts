@@ -1,18 +1,10 @@
 import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analysis/index.ts'
 import { RATED_IMPEDANCE_MIN_FRACTION } from '../analysis/index.ts'
-import { CHECK_LABELS, SCALAR_LIMIT_NAMES, type MaskLimits } from '../../shared/utils/mask.ts'
+import { CHECK_LABELS, SCALAR_LIMIT_NAMES, limitAtHz, type MaskLimits } from '../../shared/utils/mask.ts'
+import type { CheckView } from '../../shared/types/api.ts'
 
 /** One limit applied to one figure or curve (glossary: check). */
-export interface Check {
-  name: string
-  value: number | null
-  low: number | null
-  high: number | null
-  unit: string
-  pass: boolean
-  /** For curve checks: the frequency of the worst excursion. */
-  atHz?: number
-}
+export type Check = CheckView
 
 export interface Judgement {
   verdict: 'pass' | 'fail'
@@ -33,20 +25,6 @@ function scalarValue(r: Judgeable, name: (typeof SCALAR_LIMIT_NAMES)[number]): n
   return r.parameters[name]
 }
 
-/** Interpolates a limit curve (log frequency) at f; null outside its range or where the limit is open. */
-function limitAt(freqHz: number[], values: (number | null)[], f: number): number | null {
-  if (f < freqHz[0]! || f > freqHz[freqHz.length - 1]!) return null
-  let i = 1
-  while (i < freqHz.length - 1 && freqHz[i]! < f) i++
-  const f0 = freqHz[i - 1]!
-  const f1 = freqHz[i]!
-  const v0 = values[i - 1]
-  const v1 = values[i]
-  if (v0 == null || v1 == null) return f === f1 ? (v1 ?? null) : f === f0 ? (v0 ?? null) : null
-  const t = f1 === f0 ? 0 : Math.log(f / f0) / Math.log(f1 / f0)
-  return v0 + t * (v1 - v0)
-}
-
 function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>): Check | null {
   const values = r.curves[name]
   if (!values) return null
@@ -56,8 +34,8 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
   r.curves.freqHz.forEach((f, i) => {
     const v = values[i]
     if (v == null) return
-    const lo = limitAt(limit.freqHz, limit.low, f)
-    const hi = limitAt(limit.freqHz, limit.high, f)
+    const lo = limitAtHz(limit.freqHz, limit.low, f)
+    const hi = limitAtHz(limit.freqHz, limit.high, f)
     if (lo === null && hi === null) return
     compared++
     const excess = Math.max(lo !== null ? lo - v : 0, hi !== null ? v - hi : 0)

@@ -44,3 +44,20 @@ export const CHECK_LABELS: Record<string, { label: string; unit: string; plain: 
   splDb: { label: 'Response', unit: 'dB', plain: 'Frequency response outside the mask' },
   impedanceOhm: { label: 'Impedance curve', unit: 'Ω', plain: 'Impedance curve outside the mask' },
 }
+
+/**
+ * A limit curve's value at f, interpolated linearly in log frequency between its breakpoints; null
+ * outside the curve's range or where the limit is open. The judge and the charts use the same one.
+ */
+export function limitAtHz(freqHz: number[], values: (number | null)[], f: number): number | null {
+  if (freqHz.length < 2 || f < freqHz[0]! || f > freqHz[freqHz.length - 1]!) return null
+  let i = 1
+  while (i < freqHz.length - 1 && freqHz[i]! < f) i++
+  const f0 = freqHz[i - 1]!
+  const f1 = freqHz[i]!
+  const v0 = values[i - 1]
+  const v1 = values[i]
+  if (v0 == null || v1 == null) return f === f1 ? (v1 ?? null) : f === f0 ? (v0 ?? null) : null
+  const t = f1 === f0 ? 0 : Math.log(f / f0) / Math.log(f1 / f0)
+  return v0 + t * (v1 - v0)
+}

@@ -4,8 +4,7 @@ import { join } from 'node:path'
 import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
-import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
-import { launchBrowser } from '../support/browser'
+import { launchBrowser, signInAs } from '../support/browser'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, unique } from '../support/db'
 import { startWorker, type RunningWorker } from '../support/worker'
 
@@ -55,11 +54,7 @@ beforeAll(async () => {
   // Listening early turns on file-chooser interception before a key press opens one (a late
   // listener races a keyboard-opened chooser, which would then open natively and be lost).
   page.on('filechooser', () => {})
-  await page.goto(new URL('/login?redirect=/bench', baseUrl).toString())
-  await page.fill('input[name=email]', demoEmail('technician'))
-  await page.fill('input[name=password]', DEMO_PASSWORD)
-  await page.click('button[type=submit]')
-  await page.waitForURL(/\/bench$/)
+  await signInAs(page, baseUrl, 'technician', '/bench')
 }, 300_000)
 
 afterAll(async () => {

@@ -1,22 +1,13 @@
-import type { Browser } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, it, inject } from 'vitest'
+import { describe, expect, it, inject } from 'vitest'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
-import { launchBrowser } from '../support/browser'
+import { useBrowser } from '../support/browser'
 
 const baseUrl = inject('baseUrl')
-let browser: Browser
-
-beforeAll(async () => {
-  browser = await launchBrowser()
-}, 300_000)
-
-afterAll(async () => {
-  await browser?.close()
-})
+const browser = useBrowser()
 
 describe('a technician in the browser', () => {
   it('is sent to sign-in, signs in, sees the bench in the navigation but not people', async () => {
-    const page = await browser.newPage({ viewport: { width: 1366, height: 768 } })
+    const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
     await page.goto(new URL('/lots', baseUrl).toString())
     await page.waitForURL((u) => u.pathname === '/login' && u.searchParams.get('redirect') === '/lots')
 
@@ -38,7 +29,7 @@ describe('a technician in the browser', () => {
   })
 
   it('shows a wrong password as a readable error and stays on sign-in', async () => {
-    const page = await browser.newPage()
+    const page = await browser().newPage()
     await page.goto(new URL('/login', baseUrl).toString())
     await page.fill('input[name=email]', demoEmail('technician'))
     await page.fill('input[name=password]', 'not the password')

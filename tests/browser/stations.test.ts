@@ -1,19 +1,9 @@
-import type { Browser } from 'playwright-core'
-import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
-import { launchBrowser } from '../support/browser'
+import { describe, expect, inject, it } from 'vitest'
+import { signInAs, useBrowser } from '../support/browser'
 import { unique } from '../support/db'
 
 const baseUrl = inject('baseUrl')
-let browser: Browser
-
-beforeAll(async () => {
-  browser = await launchBrowser()
-}, 300_000)
-
-afterAll(async () => {
-  await browser?.close()
-})
+const browser = useBrowser()
 
 async function tokenWorks(token: string): Promise<number> {
   return (await fetch(new URL('/api/recordings?limit=1', baseUrl), { headers: { authorization: `Bearer ${token}` } })).status
@@ -21,12 +11,8 @@ async function tokenWorks(token: string): Promise<number> {
 
 describe('an engineer sets up a station in the browser', () => {
   it('creates it, copies the token shown once, and replaces the token', async () => {
-    const page = await browser.newPage({ viewport: { width: 1366, height: 768 } })
-    await page.goto(new URL('/login?redirect=/stations', baseUrl).toString())
-    await page.fill('input[name=email]', demoEmail('engineer'))
-    await page.fill('input[name=password]', DEMO_PASSWORD)
-    await page.click('button[type=submit]')
-    await page.waitForURL(/\/stations$/)
+    const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
+    await signInAs(page, baseUrl, 'engineer', '/stations')
 
     const name = unique('Line 7 EOL')
     await page.getByRole('button', { name: 'Add a station' }).click()

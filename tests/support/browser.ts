@@ -1,6 +1,9 @@
 import { spawnSync } from 'node:child_process'
 import { existsSync } from 'node:fs'
-import { chromium, type Browser } from 'playwright-core'
+import { chromium, type Browser, type Page } from 'playwright-core'
+import { afterAll, beforeAll } from 'vitest'
+import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
+import type { Role } from '../../shared/utils/roles'
 
 const CHROMIUM = '/usr/bin/chromium'
 
@@ -31,4 +34,25 @@ export async function launchBrowser(): Promise<Browser> {
       '--no-first-run',
     ],
   })
+}
+
+/** One browser for a test file: launched before its tests, closed after. */
+export function useBrowser(): () => Browser {
+  let browser: Browser | undefined
+  beforeAll(async () => {
+    browser = await launchBrowser()
+  }, 300_000)
+  afterAll(async () => {
+    await browser?.close()
+  })
+  return () => browser!
+}
+
+/** Signs a demo account in through the sign-in page and waits for the page it was sent to. */
+export async function signInAs(page: Page, baseUrl: string, role: Role, path: string): Promise<void> {
+  await page.goto(new URL(`/login?redirect=${encodeURIComponent(path)}`, baseUrl).toString())
+  await page.fill('input[name=email]', demoEmail(role))
+  await page.fill('input[name=password]', DEMO_PASSWORD)
+  await page.click('button[type=submit]')
+  await page.waitForURL((u) => u.pathname === path)
 }
