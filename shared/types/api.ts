@@ -143,3 +143,75 @@ export interface UnitView {
   verdict: 'pass' | 'fail' | null
   recordings: RecordingView[]
 }
+
+export interface MaskSummary {
+  id: number
+  productCode: string
+  version: number
+  status: 'draft' | 'released' | 'retired'
+  name: string
+  goldenCount: number
+  createdAt: string
+  createdBy: string | null
+  releasedAt: string | null
+  releasedBy: string | null
+  releaseComment: string | null
+  retiredAt: string | null
+}
+
+export interface GoldenFigure {
+  n: number
+  mean: number
+  sd: number
+}
+
+export interface MaskView extends MaskSummary {
+  /** Product code (POST /api/masks answers { id, product, version, status, curve, scalars }). */
+  product: string
+  productId: number
+  limits: {
+    scalars: Partial<Record<'re20Ohm' | 'fsHz' | 'qts' | 'sensitivityDb' | 'thdMaxPct' | 'rubBuzzDb', { low: number | null; high: number | null }>>
+    polarityNormal: boolean
+    ratedImpedanceRule: boolean
+    curves: { splDb?: CurveLimit; impedanceOhm?: CurveLimit }
+  }
+  /** The response limit curve (same as limits.curves.splDb), null when the mask has none. */
+  curve: CurveLimit | null
+  scalars: MaskView['limits']['scalars']
+  golden: {
+    serials: string[]
+    /** Per figure, the golden units' mean and sample standard deviation. */
+    figures: Partial<Record<string, GoldenFigure>>
+    /** The golden units' curves, for the chart. */
+    curves: { serial: string; recordingId: number; splDb: (number | null)[] | null; impedanceOhm: (number | null)[] | null }[]
+    freqHz: number[]
+    meanSplDb: (number | null)[] | null
+  }
+  /** Expected Re at 20 °C from the product's coil description, and a warning when the golden units disagree. */
+  expectedRe20Ohm: number | null
+  reWarning: string | null
+}
+
+export interface MaskCandidate {
+  serial: string
+  recordingId: number
+  kind: 'sweep' | 'impedance_table'
+  verdict: 'pass' | 'fail' | null
+  uploadedAt: string
+  re20Ohm: number | null
+  fsHz: number | null
+  qts: number | null
+  sensitivityDb: number | null
+}
+
+export interface MaskPreview {
+  maskId: number
+  considered: number
+  draft: { pass: number; fail: number; yieldPct: number | null }
+  active: { maskId: number; version: number; pass: number; fail: number; yieldPct: number | null } | null
+  /** Units whose verdict would change, newest first (at most 500 listed). */
+  changed: { serial: string; recordingId: number; from: 'pass' | 'fail' | null; to: 'pass' | 'fail'; checks: string[] }[]
+  changedTotal: number
+  /** Per check: results it would newly fail and newly pass. */
+  byCheck: { check: string; newFails: number; newPasses: number }[]
+}

@@ -61,3 +61,37 @@ export function limitAtHz(freqHz: number[], values: (number | null)[], f: number
   const t = f1 === f0 ? 0 : Math.log(f / f0) / Math.log(f1 / f0)
   return v0 + t * (v1 - v0)
 }
+
+export const MASK_STATUSES = ['draft', 'released', 'retired'] as const
+export type MaskStatus = (typeof MASK_STATUSES)[number]
+
+const productCode = z.string().trim().min(1).max(40).regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'codes may hold letters, digits and - _ . only')
+const goldenSerial = z.string().trim().min(3).max(64).regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'serial may hold letters, digits and - _ . only')
+
+/** POST /api/masks: a draft proposed from golden units. */
+export const maskCreateSchema = z
+  .object({
+    product: productCode,
+    goldenSerials: z.array(goldenSerial).min(5, 'pick at least 5 golden units').max(500),
+    k: z.number().positive().max(10).optional(),
+    floorDb: z.number().min(0).max(20).optional(),
+    fromHz: z.number().positive().optional(),
+    toHz: z.number().positive().optional(),
+    name: z.string().trim().max(80).optional(),
+  })
+  .refine((m) => new Set(m.goldenSerials).size === m.goldenSerials.length, { message: 'each golden unit once', path: ['goldenSerials'] })
+  .refine((m) => m.fromHz === undefined || m.toHz === undefined || m.fromHz < m.toHz, { message: 'fromHz must be below toHz', path: ['toHz'] })
+export type MaskCreateInput = z.infer<typeof maskCreateSchema>
+
+/** PATCH /api/masks/:id: edits a draft (a released mask answers 409). */
+export const maskPatchSchema = z
+  .object({ name: z.string().trim().max(80).optional(), limits: maskLimitsSchema.optional() })
+  .refine((p) => p.name !== undefined || p.limits !== undefined, { message: 'nothing to change' })
+
+/** POST /api/masks/:id/release and /retire: why (required for release, written to the audit log). */
+export const maskReleaseSchema = z.object({ comment: z.string().trim().min(3, 'say why (at least 3 characters)').max(1000) })
+export const maskRetireSchema = z.object({ comment: z.string().trim().max(1000).optional() })
+
+export const maskListQuerySchema = z.object({ product: productCode.optional() })
+export const previewQuerySchema = z.object({ last: z.coerce.number().int().min(1).max(20000).default(2000) })
+export const candidatesQuerySchema = z.object({ product: productCode, limit: z.coerce.number().int().min(1).max(2000).default(200) })

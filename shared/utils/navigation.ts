@@ -11,6 +11,7 @@ export interface NavItem {
 /** Each role's work, in the order the navigation shows it. Route middleware reads the same list. */
 export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/bench', label: 'Bench', roles: ['technician', 'engineer'], hint: 'Scan a serial, upload a recording, see the verdict' },
+  { to: '/products', label: 'Products', roles: ['engineer'], hint: 'Driver models, rated impedance and voice-coil data' },
   { to: '/masks', label: 'Masks', roles: ['engineer'], hint: 'Tolerance masks built from golden units' },
   { to: '/stations', label: 'Stations', roles: ['engineer'], hint: 'Test positions and their calibration profiles' },
   { to: '/lots', label: 'Lots', roles: ['quality', 'engineer'], hint: 'Yield, failure Pareto and drift per lot' },
