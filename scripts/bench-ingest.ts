@@ -47,7 +47,7 @@ async function main() {
       limits: { scalars: { fsHz: { low: 20, high: 80 } }, polarityNormal: true, ratedImpedanceRule: true, curves: {} },
       createdBy: null,
     })
-    await releaseMask(db, mask, null)
+    await releaseMask(db, mask, { by: null, comment: 'benchmark' })
     const stations = await Promise.all(Array.from({ length: CLIENTS }, (_, i) => createStation(db, { name: `Bench station ${i + 1}`, line: 'bench', profile: DEFAULT_PROFILE, createdBy: null })))
     // Files are made before the clock starts; serials differ, so every upload is a new recording.
     const files = Array.from({ length: DISTINCT_FILES }, (_, i) => generateRecording({ seed: 5000 + i }))

@@ -9,16 +9,15 @@ import { createHash, randomUUID } from 'node:crypto'
 import { mkdir, rm, writeFile } from 'node:fs/promises'
 import { join } from 'node:path'
 import type { Knex } from 'knex'
-import { analyzeRecording, type StationProfile } from '../server/analysis/index.ts'
-import { createMaskDraft, releaseMask } from '../server/repos/masks.ts'
+import type { StationProfile } from '../server/analysis/index.ts'
 import { createProduct } from '../server/repos/products.ts'
 import { insertRecording } from '../server/repos/recordings.ts'
 import { createStation } from '../server/repos/stations.ts'
 import { findOrCreateLot } from '../server/repos/units.ts'
 import { processRecording } from '../server/services/analyse.ts'
+import { createMaskFromGolden, releaseAndJudge } from '../server/services/masks.ts'
 import { directoryStorage, newStorageKey, type RecordingStorage } from '../server/storage/recordings.ts'
 import { loadConfig } from '../server/utils/config.ts'
-import { proposeLimits, type GoldenResult } from '../server/verdict/propose.ts'
 import { demoEmail } from './01-demo-users.ts'
 import { createRenderPool, type Rendered } from './demo/render-pool.ts'
 import { PRODUCTS, STATIONS, planScenario, type PlannedTest, type PlannedUnit } from './demo/scenario.ts'
@@ -126,35 +125,29 @@ export async function seed(knex: Knex): Promise<void> {
     for (const r of unitRows) ctx.unitIds.set(r.serial, Number(r.id))
 
     const tests = plan.units.flatMap((u) => u.tests.map((t) => ({ u, t })))
-    // 1. Tested before any mask existed: these results stay unjudged.
-    for (const { u, t } of tests.filter(({ t }) => t.phase === 'before_mask')) await record(ctx, u, t, await pool.render(t))
+    // 1. Tested before any mask existed, golden units included: stored and analysed, not judged.
+    const early = tests.filter(({ t }) => t.phase === 'before_mask' || t.phase === 'golden')
+    for (const { u, t } of early) await record(ctx, u, t, await pool.render(t))
 
-    // 2. Golden units: analysed in memory exactly as processRecording will (same bytes, profile,
-    //    ambient and band), then the first mask of each product. Their recordings are stored in
-    //    step 3 and judged by that mask, as releasing a mask judges never-judged results (issue 5).
-    const goldenTests = tests.filter(({ t }) => t.phase === 'golden')
-    const goldenBytes = new Map<PlannedTest, Rendered>()
-    await Promise.all(goldenTests.map(async ({ t }) => goldenBytes.set(t, await pool.render(t))))
+    // 2. The first mask of each product, proposed from its golden units exactly as an engineer
+    //    does it (POST /api/masks), then released: releasing judges the never-judged results.
     for (const p of PRODUCTS) {
-      const golden: GoldenResult[] = goldenTests
-        .filter(({ u }) => u.productCode === p.code)
-        .map(({ t }) => analyzeRecording(goldenBytes.get(t)!.bytes, ctx.stationIds.get(t.station!)!.profile, { ambientC: t.ambientC, sensitivityBandHz: p.sensitivityBandHz }))
+      const goldenSerials = [...new Set(tests.filter(({ u, t }) => t.phase === 'golden' && u.productCode === p.code).map(({ u }) => u.serial))]
       // No impedance-curve band: per-frequency limits from a dozen units are too tight on the slopes
       // of the resonance peak (a unit with Fs 1 Hz off the golden mean leaves it); Fs, Qts and Re judge the impedance.
-      const limits = proposeLimits(golden)
-      const maskId = await createMaskDraft(knex, { productId: productIds.get(p.code)!, name: `First release, from ${golden.length} golden units`, limits, createdBy: ctx.users.engineer })
-      await releaseMask(knex, maskId, ctx.users.engineer)
-      await knex('masks').where({ id: maskId }).update({ created_at: at(ctx, plan.maskReleaseAtMin - 15), released_at: at(ctx, plan.maskReleaseAtMin) })
+      const maskId = await createMaskFromGolden(knex, { product: p.code, goldenSerials, name: `First release, from ${goldenSerials.length} golden units` }, ctx.users.engineer)
+      await knex('masks').where({ id: maskId }).update({ created_at: at(ctx, plan.maskReleaseAtMin - 15) })
+      await releaseAndJudge(knex, maskId, ctx.users.engineer, 'First mask of the product, from the first lot\'s golden units', at(ctx, plan.maskReleaseAtMin))
     }
 
     // 3. Everything else, in time order, judged by mask v1. A few recordings in flight at once so the
     //    file and database syncs overlap with the analysis; a unit's tests stay in order.
-    const rest = tests.filter(({ t }) => t.phase !== 'before_mask').sort((a, b) => a.t.atMin - b.t.atMin)
+    const rest = tests.filter(({ t }) => t.phase !== 'before_mask' && t.phase !== 'golden').sort((a, b) => a.t.atMin - b.t.atMin)
     const lastOfUnit = new Map<string, Promise<void>>()
     const inFlight = new Set<Promise<void>>()
     for (const { u, t } of rest) {
       while (inFlight.size >= IN_FLIGHT) await Promise.race(inFlight)
-      const rendered = goldenBytes.get(t) ?? pool.render(t)
+      const rendered = pool.render(t)
       const task = (lastOfUnit.get(u.serial) ?? Promise.resolve()).then(async () => record(ctx, u, t, await rendered))
       lastOfUnit.set(u.serial, task)
       inFlight.add(task)

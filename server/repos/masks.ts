@@ -1,10 +1,38 @@
 import type { Knex } from 'knex'
-import { maskLimitsSchema, type MaskLimits } from '../../shared/utils/mask.ts'
+import { maskLimitsSchema, type MaskLimits, type MaskStatus } from '../../shared/utils/mask.ts'
+import type { MaskSummary } from '../../shared/types/api.ts'
+import { writeAudit } from './audit.ts'
+
+/** A change the mask's state does not allow (e.g. editing a released mask). */
+export class MaskStateError extends Error {
+  constructor(
+    readonly code: 'mask_not_draft' | 'mask_not_released' | 'unknown_mask',
+    message: string,
+  ) {
+    super(message)
+  }
+}
 
 export interface ActiveMask {
   id: number
   version: number
   limits: MaskLimits
+}
+
+export interface MaskRow {
+  id: string
+  product_id: string
+  version: number
+  status: MaskStatus
+  name: string
+  limits: unknown
+  options: Record<string, unknown>
+  created_by: string | null
+  created_at: Date
+  released_at: Date | null
+  released_by: string | null
+  release_comment: string | null
+  retired_at: Date | null
 }
 
 /** The released mask that judges a product's units now, if any. */
@@ -16,33 +44,156 @@ export async function getActiveMask(db: Knex, productId: number): Promise<Active
   return r && { id: Number(r.id), version: r.version, limits: maskLimitsSchema.parse(r.limits) }
 }
 
+export async function getMaskRow(db: Knex, id: number): Promise<MaskRow | undefined> {
+  return db<MaskRow>('masks').where({ id: String(id) }).first()
+}
+
+function summaryQuery(db: Knex) {
+  return db('masks as m')
+    .join('products as p', 'p.id', 'm.product_id')
+    .leftJoin('users as cu', 'cu.id', 'm.created_by')
+    .leftJoin('users as ru', 'ru.id', 'm.released_by')
+    .select(
+      'm.*',
+      'p.code as product_code',
+      'cu.display_name as created_by_name',
+      'ru.display_name as released_by_name',
+      db('mask_golden as g').count('*').whereRaw('g.mask_id = m.id').as('golden_count'),
+    )
+}
+
+type SummaryRow = MaskRow & { product_code: string; created_by_name: string | null; released_by_name: string | null; golden_count: string }
+
+function toSummary(r: SummaryRow): MaskSummary {
+  const iso = (d: Date | null) => (d ? d.toISOString() : null)
+  return {
+    id: Number(r.id),
+    productCode: r.product_code,
+    version: r.version,
+    status: r.status,
+    name: r.name,
+    goldenCount: Number(r.golden_count),
+    createdAt: r.created_at.toISOString(),
+    createdBy: r.created_by_name,
+    releasedAt: iso(r.released_at),
+    releasedBy: r.released_by_name,
+    releaseComment: r.release_comment,
+    retiredAt: iso(r.retired_at),
+  }
+}
+
+export async function listMasks(db: Knex, filter: { productCode?: string }): Promise<MaskSummary[]> {
+  const q = summaryQuery(db).orderBy([{ column: 'p.code' }, { column: 'm.version', order: 'desc' }])
+  if (filter.productCode) q.where('p.code', filter.productCode)
+  return ((await q) as SummaryRow[]).map(toSummary)
+}
+
+export async function getMaskSummary(db: Knex, id: number): Promise<(MaskSummary & { productId: number; limits: MaskLimits; options: Record<string, unknown> }) | undefined> {
+  const r = (await summaryQuery(db).where('m.id', id).first()) as SummaryRow | undefined
+  return r && { ...toSummary(r), productId: Number(r.product_id), limits: maskLimitsSchema.parse(r.limits), options: r.options }
+}
+
+export interface GoldenRef {
+  unitId: number
+  recordingId: number
+  serial: string
+}
+
+export async function listGolden(db: Knex, maskId: number): Promise<GoldenRef[]> {
+  const rows = await db('mask_golden').where({ mask_id: maskId }).orderBy('serial')
+  return rows.map((r: { unit_id: string; recording_id: string; serial: string }) => ({ unitId: Number(r.unit_id), recordingId: Number(r.recording_id), serial: r.serial }))
+}
+
 export interface NewMask {
   productId: number
   name: string
   limits: MaskLimits
   createdBy: number | null
+  options?: Record<string, unknown>
+  golden?: GoldenRef[]
 }
 
-/** A new draft with the next version number for its product. */
+/** A new draft with the next version number for its product, with its golden units. */
 export async function createMaskDraft(db: Knex, m: NewMask): Promise<number> {
   return db.transaction(async (trx) => {
+    // Versions are numbered per product: serialise concurrent drafts of one product.
     await trx.raw('SELECT pg_advisory_xact_lock(?, ?)', [0x6d61736b, m.productId])
     const { max } = (await trx('masks').where({ product_id: m.productId }).max<{ max: number | null }>('version as max').first())!
     const [row] = await trx('masks')
-      .insert({ product_id: m.productId, version: (max ?? 0) + 1, status: 'draft', name: m.name, limits: JSON.stringify(m.limits), created_by: m.createdBy })
+      .insert({
+        product_id: m.productId,
+        version: (max ?? 0) + 1,
+        status: 'draft',
+        name: m.name,
+        limits: JSON.stringify(m.limits),
+        options: JSON.stringify(m.options ?? {}),
+        created_by: m.createdBy,
+      })
       .returning('id')
+    if (m.golden?.length) {
+      await trx('mask_golden').insert(m.golden.map((g) => ({ mask_id: row.id, unit_id: g.unitId, recording_id: g.recordingId, serial: g.serial })))
+    }
     return Number(row.id)
   })
 }
 
-/** Releases a draft: it becomes the product's active mask and the previous one is retired. */
-export async function releaseMask(db: Knex, maskId: number, by: number | null): Promise<void> {
+/** Edits a draft. @throws MaskStateError `mask_not_draft` once released or retired. */
+export async function updateMaskDraft(db: Knex, id: number, patch: { name?: string; limits?: MaskLimits }): Promise<void> {
   await db.transaction(async (trx) => {
+    const mask = await trx('masks').where({ id }).forUpdate().first()
+    if (!mask) throw new MaskStateError('unknown_mask', `No mask ${id}`)
+    if (mask.status !== 'draft') throw new MaskStateError('mask_not_draft', `Mask v${mask.version} is ${mask.status}: it cannot change. Build a new version instead.`)
+    await trx('masks')
+      .where({ id })
+      .update({ ...(patch.name !== undefined ? { name: patch.name } : {}), ...(patch.limits ? { limits: JSON.stringify(patch.limits) } : {}) })
+  })
+}
+
+export interface ReleaseOptions {
+  by: number | null
+  comment: string
+  /** When it was released; only the demo seed sets it, to lay out a believable history. */
+  at?: Date
+  /** Called inside the release transaction, e.g. to judge the product's unjudged results. */
+  afterRelease?: (trx: Knex.Transaction, mask: ActiveMask, productId: number) => Promise<number>
+}
+
+/**
+ * Releases a draft: it becomes the product's active mask, the previous one is retired, an audit
+ * entry records who and why. Returns the version and how many unjudged results it judged.
+ * @throws MaskStateError `mask_not_draft`.
+ */
+export async function releaseMask(db: Knex, maskId: number, o: ReleaseOptions): Promise<{ version: number; judgedUnjudged: number }> {
+  return db.transaction(async (trx) => {
     const mask = await trx('masks').where({ id: maskId }).forUpdate().first()
-    if (!mask || mask.status !== 'draft') throw new Error(`mask ${maskId} is not a draft`)
+    if (!mask) throw new MaskStateError('unknown_mask', `No mask ${maskId}`)
+    if (mask.status !== 'draft') throw new MaskStateError('mask_not_draft', `Mask v${mask.version} is already ${mask.status}`)
     const product = await trx('products').where({ id: mask.product_id }).forUpdate().first()
-    if (product.active_mask_id) await trx('masks').where({ id: product.active_mask_id }).update({ status: 'retired', retired_at: trx.fn.now() })
-    await trx('masks').where({ id: maskId }).update({ status: 'released', released_at: trx.fn.now(), released_by: by })
+    const at = o.at ?? new Date()
+    if (product.active_mask_id) {
+      await trx('masks').where({ id: product.active_mask_id }).update({ status: 'retired', retired_at: at, retired_by: o.by, retire_comment: `replaced by v${mask.version}` })
+    }
+    await trx('masks').where({ id: maskId }).update({ status: 'released', released_at: at, released_by: o.by, release_comment: o.comment })
     await trx('products').where({ id: mask.product_id }).update({ active_mask_id: maskId, updated_at: trx.fn.now() })
+    await writeAudit(trx, { userId: o.by, action: 'mask.release', entity: 'mask', entityId: maskId, comment: o.comment, detail: { product: product.code, version: mask.version, replaced: product.active_mask_id ? Number(product.active_mask_id) : null } })
+    const active = { id: maskId, version: mask.version, limits: maskLimitsSchema.parse(mask.limits) }
+    const judgedUnjudged = o.afterRelease ? await o.afterRelease(trx, active, Number(mask.product_id)) : 0
+    return { version: mask.version, judgedUnjudged }
+  })
+}
+
+/**
+ * Retires a released mask: the product then has no active mask (new results stay unjudged until
+ * another is released). @throws MaskStateError `mask_not_released`.
+ */
+export async function retireMask(db: Knex, maskId: number, by: number | null, comment: string | null): Promise<{ version: number }> {
+  return db.transaction(async (trx) => {
+    const mask = await trx('masks').where({ id: maskId }).forUpdate().first()
+    if (!mask) throw new MaskStateError('unknown_mask', `No mask ${maskId}`)
+    if (mask.status !== 'released') throw new MaskStateError('mask_not_released', `Only a released mask can be retired; v${mask.version} is ${mask.status}`)
+    await trx('masks').where({ id: maskId }).update({ status: 'retired', retired_at: trx.fn.now(), retired_by: by, retire_comment: comment })
+    await trx('products').where({ id: mask.product_id, active_mask_id: maskId }).update({ active_mask_id: null, updated_at: trx.fn.now() })
+    await writeAudit(trx, { userId: by, action: 'mask.retire', entity: 'mask', entityId: maskId, comment, detail: { version: mask.version } })
+    return { version: mask.version }
   })
 }

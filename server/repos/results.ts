@@ -69,3 +69,86 @@ export async function saveResult(db: Knex, r: NewResult): Promise<number> {
     return Number((await trx('results').where({ recording_id: r.recordingId }).first('id')).id)
   })
 }
+
+/** A stored result in the shape the judge and the mask proposal read. */
+export interface StoredResult {
+  resultId: number
+  recordingId: number
+  unitId: number
+  serial: string
+  kind: 'sweep' | 'impedance_table'
+  verdict: 'pass' | 'fail' | null
+  uploadedAt: Date
+  parameters: AnalysisResult['parameters']
+  flags: AnalysisResult['flags']
+  curves: { freqHz: number[]; splDb: (number | null)[] | null; impedanceOhm: (number | null)[] | null }
+}
+
+const STORED_COLUMNS = [
+  'res.id as result_id', 'res.recording_id', 'res.unit_id', 'u.serial', 'res.kind', 'res.verdict', 'r.uploaded_at',
+  'res.parameters', 'res.flags', 'res.curve_freq_hz', 'res.curve_spl_db', 'res.curve_impedance_ohm',
+]
+
+interface StoredRow {
+  result_id: string
+  recording_id: string
+  unit_id: string
+  serial: string
+  kind: 'sweep' | 'impedance_table'
+  verdict: 'pass' | 'fail' | null
+  uploaded_at: Date
+  parameters: AnalysisResult['parameters']
+  flags: AnalysisResult['flags']
+  curve_freq_hz: number[]
+  curve_spl_db: (number | null)[] | null
+  curve_impedance_ohm: (number | null)[] | null
+}
+
+function toStored(r: StoredRow): StoredResult {
+  return {
+    resultId: Number(r.result_id),
+    recordingId: Number(r.recording_id),
+    unitId: Number(r.unit_id),
+    serial: r.serial,
+    kind: r.kind,
+    verdict: r.verdict,
+    uploadedAt: r.uploaded_at,
+    parameters: r.parameters,
+    flags: r.flags,
+    curves: { freqHz: r.curve_freq_hz, splDb: r.curve_spl_db, impedanceOhm: r.curve_impedance_ohm },
+  }
+}
+
+/** Production results of a product (no return tests), newest first. */
+export function productResultsQuery(db: Knex, productId: number) {
+  return db('results as res')
+    .join('recordings as r', 'r.id', 'res.recording_id')
+    .join('units as u', 'u.id', 'res.unit_id')
+    .where({ 'u.product_id': productId, 'r.is_return_test': false })
+    .select(STORED_COLUMNS)
+    .orderBy('res.id', 'desc')
+}
+
+export async function listProductResults(db: Knex, productId: number, opts: { last?: number; unjudgedOnly?: boolean; recordingIds?: number[] } = {}): Promise<StoredResult[]> {
+  const q = productResultsQuery(db, productId)
+  if (opts.unjudgedOnly) q.whereNull('res.verdict')
+  if (opts.recordingIds) q.whereIn('res.recording_id', opts.recordingIds)
+  if (opts.last) q.limit(opts.last)
+  return ((await q) as StoredRow[]).map(toStored)
+}
+
+/** The latest production result of each unit of a product (the candidates for golden units). */
+export async function listLatestPerUnit(db: Knex, productId: number, limit: number, serials?: string[]): Promise<StoredResult[]> {
+  const inner = productResultsQuery(db, productId).clearOrder().distinctOn('res.unit_id').orderBy([{ column: 'res.unit_id' }, { column: 'res.id', order: 'desc' }])
+  if (serials) inner.whereIn('u.serial', serials)
+  const rows = (await db.select('*').from(inner.as('latest')).orderBy('result_id', 'desc').limit(limit)) as StoredRow[]
+  return rows.map(toStored)
+}
+
+/** Writes the first verdict of a result that no mask had judged (the results guard allows exactly this). */
+export async function setFirstVerdict(db: Knex, resultId: number, maskId: number, j: Judgement): Promise<void> {
+  await db('results')
+    .where({ id: resultId })
+    .whereNull('verdict')
+    .update({ mask_id: maskId, verdict: j.verdict, checks: JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured }), judged_at: db.fn.now() })
+}

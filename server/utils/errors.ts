@@ -3,6 +3,9 @@ import { ZodError } from 'zod'
 import { AnalysisInputError } from '../analysis/index'
 import { UnitInputError } from '../repos/units'
 import { UploadRefused } from '../services/ingest'
+import { MaskStateError } from '../repos/masks'
+import { GoldenError } from '../services/masks'
+import { ProposeError } from '../verdict/propose'
 
 const STATUS_TEXT: Record<number, string> = {
   400: 'Bad Request',
@@ -52,6 +55,9 @@ export function toHttpError(err: unknown): unknown {
   if (err instanceof UploadRefused) return httpError(err.status, err.code, err.message)
   if (err instanceof UnitInputError) return httpError(422, err.code, err.message)
   if (err instanceof AnalysisInputError) return httpError(422, err.code, err.message)
+  if (err instanceof MaskStateError) return httpError(err.code === 'unknown_mask' ? 404 : 409, err.code, err.message)
+  if (err instanceof GoldenError) return httpError(err.code === 'unknown_product' ? 404 : 422, err.code, err.message)
+  if (err instanceof ProposeError) return httpError(422, err.code, err.message)
   return err
 }
 

@@ -40,6 +40,6 @@ export async function makeStation(profile: StationProfile = DEFAULT_PROFILE, nam
 /** Releases a mask for a product (what an engineer does through the mask pages). */
 export async function releaseTestMask(productId: number, limits: MaskLimits): Promise<number> {
   const id = await createMaskDraft(testDb(), { productId, name: 'test mask', limits, createdBy: null })
-  await releaseMask(testDb(), id, null)
+  await releaseMask(testDb(), id, { by: null, comment: 'released by a test' })
   return id
 }

@@ -1,4 +1,3 @@
-import { expect } from 'vitest'
 import type { RecordingView, UploadAccepted } from '../../shared/types/api'
 
 export type Auth = { cookie: string } | { token: string } | Record<string, never>
@@ -28,17 +27,13 @@ export async function getRecording(host: string, auth: Auth, id: number, query =
   return { status: res.status, body: (await res.json()) as RecordingView }
 }
 
-/** Polls a recording until the worker has finished with it (done, rejected or failed). */
+/** Polls a recording until the worker has finished with it (done, rejected or failed); usable in hooks too. */
 export async function waitFinished(host: string, auth: Auth, id: number, timeoutMs = 30_000): Promise<RecordingView> {
-  let last: RecordingView | undefined
-  await expect
-    .poll(
-      async () => {
-        last = (await getRecording(host, auth, id)).body
-        return ['done', 'rejected', 'failed'].includes(last.status)
-      },
-      { timeout: timeoutMs, interval: 150 },
-    )
-    .toBe(true)
-  return last!
+  const until = Date.now() + timeoutMs
+  for (;;) {
+    const { body } = await getRecording(host, auth, id)
+    if (['done', 'rejected', 'failed'].includes(body.status)) return body
+    if (Date.now() > until) throw new Error(`recording ${id} still ${body.status} after ${timeoutMs} ms`)
+    await new Promise((r) => setTimeout(r, 150))
+  }
 }

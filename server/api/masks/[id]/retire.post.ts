@@ -1,0 +1,15 @@
+import { retireMask } from '../../../repos/masks'
+import { idParamSchema } from '../../../../shared/utils/bench'
+import { maskRetireSchema } from '../../../../shared/utils/mask'
+
+export default defineEventHandler(async (event) => {
+  const user = await requireRole(event, 'engineer')
+  const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
+  const { comment } = await readValidatedBody(event, zodValidator(maskRetireSchema))
+  try {
+    const { version } = await retireMask(useDb(), id, user.id, comment ?? null)
+    return { id, version, status: 'retired' as const }
+  } catch (err) {
+    throw toHttpError(err)
+  }
+})

@@ -1,0 +1,181 @@
+import type { Knex } from 'knex'
+import type { MaskCandidate, MaskPreview, MaskView } from '../../shared/types/api.ts'
+import { SCALAR_LIMIT_NAMES, type MaskCreateInput, type MaskLimits } from '../../shared/utils/mask.ts'
+import { createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, type ActiveMask } from '../repos/masks.ts'
+import { getProductByCode, getProductById } from '../repos/products.ts'
+import { listLatestPerUnit, listProductResults, setFirstVerdict, type StoredResult } from '../repos/results.ts'
+import { judge, type Judgement } from '../verdict/judge.ts'
+import { proposeLimits, summarize } from '../verdict/propose.ts'
+
+/** A golden-unit choice the product's data cannot support. */
+export class GoldenError extends Error {
+  constructor(
+    readonly code: 'unknown_product' | 'golden_not_measured' | 'golden_wrong_product',
+    message: string,
+  ) {
+    super(message)
+  }
+}
+
+/** Largest number of units a preview lists one by one (the counts cover all). */
+const PREVIEW_LIST_MAX = 500
+
+/** The units a mask may be built from: each unit's latest production result. */
+export async function listCandidates(db: Knex, productCode: string, limit: number): Promise<MaskCandidate[]> {
+  const product = await getProductByCode(db, productCode)
+  if (!product) throw new GoldenError('unknown_product', `No product with code ${productCode}`)
+  return (await listLatestPerUnit(db, product.id, limit)).map((r) => ({
+    serial: r.serial,
+    recordingId: r.recordingId,
+    kind: r.kind,
+    verdict: r.verdict,
+    uploadedAt: r.uploadedAt.toISOString(),
+    re20Ohm: r.parameters.re20Ohm ?? r.parameters.reOhm,
+    fsHz: r.parameters.fsHz,
+    qts: r.parameters.qts,
+    sensitivityDb: r.parameters.sensitivityDb,
+  }))
+}
+
+/**
+ * Proposes a draft mask from golden units (each unit's latest production result) and stores it.
+ * @throws GoldenError for an unknown product, a serial of another product or one never measured;
+ * ProposeError (from the proposal) for too few units or bad options.
+ */
+export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, userId: number | null): Promise<number> {
+  const product = await getProductByCode(db, input.product)
+  if (!product) throw new GoldenError('unknown_product', `No product with code ${input.product}`)
+  const golden = await listLatestPerUnit(db, product.id, input.goldenSerials.length, input.goldenSerials)
+  const found = new Set(golden.map((g) => g.serial))
+  const missing = input.goldenSerials.filter((s) => !found.has(s))
+  if (missing.length) {
+    const elsewhere = await db('units').whereIn('serial', missing).whereNot({ product_id: product.id }).pluck('serial')
+    if (elsewhere.length) throw new GoldenError('golden_wrong_product', `Not ${product.code} units: ${elsewhere.join(', ')}`)
+    throw new GoldenError('golden_not_measured', `No measured result for: ${missing.join(', ')}`)
+  }
+  const options = { k: input.k, floorDb: input.floorDb, fromHz: input.fromHz, toHz: input.toHz }
+  const limits = proposeLimits(golden, { ...options, sweepBandHz: await sweepBandOf(db, golden) })
+  return createMaskDraft(db, {
+    productId: product.id,
+    name: input.name || `From ${golden.length} golden units`,
+    limits,
+    createdBy: userId,
+    options,
+    golden: golden.map((g) => ({ unitId: g.unitId, recordingId: g.recordingId, serial: g.serial })),
+  })
+}
+
+/** The sweep band the golden units were measured with (their stations' profiles), for the default curve range. */
+async function sweepBandOf(db: Knex, golden: StoredResult[]): Promise<[number, number] | undefined> {
+  const rows = await db('recordings as r')
+    .join('station_profiles as sp', 'sp.id', 'r.station_profile_id')
+    .whereIn('r.id', golden.map((g) => g.recordingId))
+    .select('sp.profile')
+  if (!rows.length) return undefined
+  const f1 = Math.max(...rows.map((r: { profile: { sweep: { f1Hz: number } } }) => r.profile.sweep.f1Hz))
+  const f2 = Math.min(...rows.map((r: { profile: { sweep: { f2Hz: number } } }) => r.profile.sweep.f2Hz))
+  return f2 > f1 ? [f1, f2] : undefined
+}
+
+/** Judges every never-judged production result of the product with the newly released mask. */
+export async function judgeUnjudged(trx: Knex.Transaction, mask: ActiveMask, productId: number): Promise<number> {
+  const product = (await getProductById(trx, productId))!
+  const results = await listProductResults(trx, productId, { unjudgedOnly: true })
+  for (const r of results) await setFirstVerdict(trx, r.resultId, mask.id, judge(r, mask.limits, product.ratedImpedanceOhm))
+  return results.length
+}
+
+/** Releases a draft and judges the product's never-judged results with it, in one transaction. */
+export function releaseAndJudge(db: Knex, maskId: number, by: number | null, comment: string, at?: Date) {
+  return releaseMask(db, maskId, { by, comment, at, afterRelease: judgeUnjudged })
+}
+
+export async function getMaskView(db: Knex, id: number): Promise<MaskView | undefined> {
+  const m = await getMaskSummary(db, id)
+  if (!m) return undefined
+  const product = (await getProductById(db, m.productId))!
+  const refs = await listGolden(db, id)
+  const golden = refs.length ? await listProductResults(db, m.productId, { recordingIds: refs.map((r) => r.recordingId) }) : []
+  const figures: MaskView['golden']['figures'] = {}
+  for (const name of SCALAR_LIMIT_NAMES) {
+    const s = summarize(golden.map((g) => (name === 're20Ohm' ? (g.parameters.re20Ohm ?? g.parameters.reOhm) : g.parameters[name])))
+    if (s) figures[name] = { n: s.n, mean: s.mean, sd: s.sd }
+  }
+  const freqHz = golden.find((g) => g.curves.freqHz?.length)?.curves.freqHz ?? []
+  const spl = golden.filter((g) => g.curves.splDb)
+  const meanSplDb = spl.length ? freqHz.map((_, i) => summarize(spl.map((g) => g.curves.splDb![i]))?.mean ?? null) : null
+  const expected = (product as { expectedRe20Ohm?: number | null }).expectedRe20Ohm ?? null
+  const warnPct = (product as { reWarnPct?: number }).reWarnPct ?? 10
+  const reMean = figures.re20Ohm?.mean
+  const off = expected && reMean ? (100 * (reMean - expected)) / expected : null
+  return {
+    ...m,
+    product: m.productCode,
+    curve: m.limits.curves.splDb ?? null,
+    scalars: m.limits.scalars,
+    golden: {
+      serials: refs.map((r) => r.serial),
+      figures,
+      curves: golden.map((g) => ({ serial: g.serial, recordingId: g.recordingId, splDb: g.curves.splDb, impedanceOhm: g.curves.impedanceOhm })),
+      freqHz,
+      meanSplDb,
+    },
+    expectedRe20Ohm: expected,
+    reWarning:
+      off !== null && Math.abs(off) > warnPct
+        ? `The golden units' Re at 20 °C (${reMean!.toFixed(2)} Ω) is ${Math.abs(off).toFixed(1)} % ${off > 0 ? 'above' : 'below'} the ${expected!.toFixed(2)} Ω expected from the voice-coil description: check the wire or the description.`
+        : null,
+  }
+}
+
+
+const yieldOf = (pass: number, fail: number) => (pass + fail ? Math.round((1000 * pass) / (pass + fail)) / 10 : null)
+
+/**
+ * What a mask would do to the product's recent production results, against the active mask:
+ * the yields, the units that change verdict and the checks that cause it. Nothing is written.
+ */
+export async function previewMask(db: Knex, maskId: number, last: number): Promise<MaskPreview | undefined> {
+  const m = await getMaskSummary(db, maskId)
+  if (!m) return undefined
+  const product = (await getProductById(db, m.productId))!
+  const active = await getActiveMask(db, m.productId)
+  const results = await listProductResults(db, m.productId, { last })
+  const rated = product.ratedImpedanceOhm
+  const failing = (j: Judgement | null) => new Set(j ? j.checks.filter((c) => !c.pass).map((c) => c.name) : [])
+  const draft = { pass: 0, fail: 0 }
+  const now = { pass: 0, fail: 0 }
+  const byCheck = new Map<string, { newFails: number; newPasses: number }>()
+  const changed: MaskPreview['changed'] = []
+  let changedTotal = 0
+  for (const r of results) {
+    const d = judge(r, m.limits as MaskLimits, rated)
+    const a = active ? judge(r, active.limits, rated) : null
+    draft[d.verdict]++
+    if (a) now[a.verdict]++
+    const before = failing(a)
+    const after = failing(d)
+    for (const c of after) if (!before.has(c)) bump(byCheck, c, 'newFails')
+    for (const c of before) if (!after.has(c)) bump(byCheck, c, 'newPasses')
+    if (d.verdict !== (a?.verdict ?? null)) {
+      changedTotal++
+      const cause = [...after].filter((c) => !before.has(c))
+      if (changed.length < PREVIEW_LIST_MAX) changed.push({ serial: r.serial, recordingId: r.recordingId, from: a?.verdict ?? null, to: d.verdict, checks: cause.length ? cause : [...before].filter((c) => !after.has(c)) })
+    }
+  }
+  return {
+    maskId,
+    considered: results.length,
+    draft: { ...draft, yieldPct: yieldOf(draft.pass, draft.fail) },
+    active: active ? { maskId: active.id, version: active.version, ...now, yieldPct: yieldOf(now.pass, now.fail) } : null,
+    changed,
+    changedTotal,
+    byCheck: [...byCheck.entries()].map(([check, v]) => ({ check, ...v })).sort((x, y) => y.newFails + y.newPasses - (x.newFails + x.newPasses)),
+  }
+}
+
+function bump(map: Map<string, { newFails: number; newPasses: number }>, check: string, key: 'newFails' | 'newPasses') {
+  const v = map.get(check) ?? { newFails: 0, newPasses: 0 }
+  v[key]++
+  map.set(check, v)
+}

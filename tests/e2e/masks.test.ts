@@ -1,0 +1,170 @@
+import { mean, sampleStandardDeviation } from 'simple-statistics'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { generateRecording } from '../../fixtures/generator'
+import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
+import type { MaskPreview, MaskView, RecordingView } from '../../shared/types/api'
+import { signIn, useTestServer } from '../support/app'
+import { closeTestDb, makeProduct, makeStation, testDb, unique } from '../support/db'
+import { postRecording, waitFinished } from '../support/upload'
+import { startWorker, type RunningWorker } from '../support/worker'
+
+const host = await useTestServer()
+let worker: RunningWorker
+let eng: { cookie: string }
+let tech: { cookie: string }
+let product: { id: number; code: string }
+let station: { id: number; token: string }
+const golden: RecordingView[] = []
+
+async function api<T>(method: string, path: string, body?: unknown, who: { cookie: string } = eng): Promise<{ status: number; body: T & { data?: { code: string }; message?: string } }> {
+  const res = await fetch(new URL(path, host), {
+    method,
+    headers: { ...who, ...(body !== undefined ? { 'content-type': 'application/json' } : {}) },
+    body: body !== undefined ? JSON.stringify(body) : undefined,
+  })
+  return { status: res.status, body: (await res.json()) as never }
+}
+
+async function testUnit(seed: number, serial = unique('MU')): Promise<RecordingView> {
+  const up = await postRecording(host, tech, { serial, product: product.code, station: station.id }, { bytes: generateRecording({ seed }), name: `${seed}.wav` })
+  expect(up.status).toBe(202)
+  return waitFinished(host, tech, up.body.id)
+}
+
+beforeAll(async () => {
+  worker = startWorker()
+  await worker.ready
+  eng = { cookie: (await signIn(host, demoEmail('engineer'), DEMO_PASSWORD)).cookie }
+  tech = { cookie: (await signIn(host, demoEmail('technician'), DEMO_PASSWORD)).cookie }
+  product = await makeProduct(unique('P'), 6)
+  station = await makeStation()
+  for (let i = 0; i < 8; i++) golden.push(await testUnit(400 + i))
+}, 120_000)
+
+afterAll(async () => {
+  await worker?.stop()
+  await closeTestDb()
+})
+
+describe('masks are for engineers', () => {
+  it.each(['technician', 'quality', 'support'] as const)('answer 403 to a %s on every route', async (role) => {
+    const who = { cookie: (await signIn(host, demoEmail(role), DEMO_PASSWORD)).cookie }
+    const answers = await Promise.all([
+      api('GET', '/api/masks', undefined, who),
+      api('GET', `/api/masks/candidates?product=${product.code}`, undefined, who),
+      api('POST', '/api/masks', { product: product.code, goldenSerials: golden.map((g) => g.serial) }, who),
+      api('GET', '/api/masks/1', undefined, who),
+      api('PATCH', '/api/masks/1', { name: 'x' }, who),
+      api('GET', '/api/masks/1/preview', undefined, who),
+      api('POST', '/api/masks/1/release', { comment: 'because' }, who),
+      api('POST', '/api/masks/1/retire', {}, who),
+    ])
+    expect(answers.map((a) => a.status)).toEqual(Array(answers.length).fill(403))
+  })
+})
+
+describe('a mask from golden units through its life', () => {
+  let v1: MaskView
+  let unjudged: RecordingView
+
+  it('lists the measured units as candidates', async () => {
+    const { status, body } = await api<{ serial: string; fsHz: number }[]>('GET', `/api/masks/candidates?product=${product.code}`)
+    expect(status).toBe(200)
+    expect(body.map((c) => c.serial).sort()).toEqual(golden.map((g) => g.serial).sort())
+    expect(body.every((c) => c.fsHz > 0)).toBe(true)
+  })
+
+  it.each([
+    ['fewer than 5 golden units', () => ({ product: product.code, goldenSerials: golden.slice(0, 4).map((g) => g.serial) }), 400, 'invalid_input'],
+    ['a unit never measured', () => ({ product: product.code, goldenSerials: [...golden.slice(0, 5).map((g) => g.serial), 'NEVER-SEEN-1'] }), 422, 'golden_not_measured'],
+    ['an unknown product', () => ({ product: 'NO-SUCH', goldenSerials: golden.slice(0, 5).map((g) => g.serial) }), 404, 'unknown_product'],
+  ])('refuses %s', async (_l, body, status, code) => {
+    const res = await api('POST', '/api/masks', body())
+    expect(res.status).toBe(status)
+    expect(res.body.data?.code).toBe(code)
+  })
+
+  it('proposes a draft whose golden statistics agree with simple-statistics', async () => {
+    const res = await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: golden.map((g) => g.serial), k: 3, floorDb: 1.5 })
+    expect(res.status).toBe(201)
+    v1 = res.body
+    expect(v1).toMatchObject({ product: product.code, version: 1, status: 'draft', goldenCount: 8 })
+    expect(v1.curve?.freqHz.length).toBeGreaterThan(10)
+    // General-purpose reference library (simple-statistics) on the same golden Fs values.
+    const fs = golden.map((g) => g.parameters!.fsHz!)
+    expect(v1.golden.figures.fsHz!.mean).toBeCloseTo(mean(fs), 9)
+    expect(v1.golden.figures.fsHz!.sd).toBeCloseTo(sampleStandardDeviation(fs), 9)
+    // mean ± max(k·σ, floor) with the default Fs floor of 2 Hz (server/verdict/propose.ts), stored to 5 significant digits.
+    const half = Math.max(3 * sampleStandardDeviation(fs), 2)
+    expect(v1.scalars.fsHz!.low).toBeCloseTo(mean(fs) - half, 2)
+    expect(v1.scalars.fsHz!.high).toBeCloseTo(mean(fs) + half, 2)
+  })
+
+  it('edits the draft; previews it with no active mask', async () => {
+    const limits = { ...v1.limits, scalars: { ...v1.limits.scalars, fsHz: { low: 10, high: 200 } } }
+    const res = await api<MaskView>('PATCH', `/api/masks/${v1.id}`, { limits, name: 'wide Fs' })
+    expect(res.status).toBe(200)
+    expect(res.body.scalars.fsHz).toEqual({ low: 10, high: 200 })
+    expect(res.body.name).toBe('wide Fs')
+    v1 = res.body
+    const preview = await api<MaskPreview>('GET', `/api/masks/${v1.id}/preview?last=100`)
+    expect(preview.status).toBe(200)
+    expect(preview.body.active).toBeNull()
+    expect(preview.body.considered).toBe(8)
+    expect(preview.body.draft).toMatchObject({ pass: 8, fail: 0, yieldPct: 100 })
+  })
+
+  it('needs a comment to release; releasing judges results no mask had judged and writes the audit log', async () => {
+    unjudged = await testUnit(420)
+    expect(unjudged.verdict).toBeNull()
+    expect((await api('POST', `/api/masks/${v1.id}/release`, { comment: '' })).status).toBe(400)
+    const res = await api<{ id: number; version: number; status: string; judgedUnjudged: number }>('POST', `/api/masks/${v1.id}/release`, { comment: 'first mask of this product' })
+    expect(res.status).toBe(200)
+    expect(res.body).toMatchObject({ id: v1.id, version: 1, status: 'released', judgedUnjudged: 9 })
+    const after = (await (await fetch(new URL(`/api/recordings/${unjudged.id}`, host), { headers: tech })).json()) as RecordingView
+    expect(after).toMatchObject({ verdict: 'pass', maskVersion: 1 })
+    const audit = await testDb()('audit_log').where({ entity: 'mask', entity_id: String(v1.id), action: 'mask.release' }).first()
+    expect(audit.comment).toBe('first mask of this product')
+    expect(Number(audit.user_id)).toBeGreaterThan(0)
+    // A new unit is judged by v1 at once.
+    expect(await testUnit(421)).toMatchObject({ verdict: 'pass', maskVersion: 1 })
+  })
+
+  it('keeps a released mask immutable: 409 through the API, refused by the database too', async () => {
+    const patch = await api('PATCH', `/api/masks/${v1.id}`, { name: 'changed' })
+    expect(patch.status).toBe(409)
+    expect(patch.body.data?.code).toBe('mask_not_draft')
+    expect((await api('POST', `/api/masks/${v1.id}/release`, { comment: 'again' })).status).toBe(409)
+    await expect(testDb()('masks').where({ id: v1.id }).update({ limits: JSON.stringify({ scalars: {} }) })).rejects.toThrow(/cannot change/)
+    await expect(testDb()('audit_log').where({ entity_id: String(v1.id) }).del()).rejects.toThrow(/append-only/)
+  })
+
+  it('previews a tighter v2 against v1: the units that would change and the check that causes it', async () => {
+    const res = await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: golden.map((g) => g.serial) })
+    expect(res.body.version).toBe(2)
+    const fsValues = golden.map((g) => g.parameters!.fsHz!).sort((a, b) => a - b)
+    // An Fs window that leaves out the lowest golden unit.
+    const tight = { ...res.body.limits, scalars: { ...res.body.limits.scalars, fsHz: { low: (fsValues[0]! + fsValues[1]!) / 2, high: 200 } } }
+    expect((await api('PATCH', `/api/masks/${res.body.id}`, { limits: tight })).status).toBe(200)
+    const preview = (await api<MaskPreview>('GET', `/api/masks/${res.body.id}/preview`)).body
+    expect(preview.active).toMatchObject({ maskId: v1.id, version: 1, fail: 0 })
+    expect(preview.changedTotal).toBeGreaterThanOrEqual(1)
+    expect(preview.changed[0]).toMatchObject({ from: 'pass', to: 'fail', checks: ['fsHz'] })
+    expect(preview.byCheck.find((c) => c.check === 'fsHz')?.newFails).toBe(preview.changedTotal)
+    expect(preview.draft.fail).toBe(preview.changedTotal)
+
+    const released = await api('POST', `/api/masks/${res.body.id}/release`, { comment: 'tighter Fs after spider change' })
+    expect(released.status).toBe(200)
+    const list = (await api<{ version: number; status: string }[]>('GET', `/api/masks?product=${product.code}`)).body
+    expect(list.map((m) => [m.version, m.status])).toEqual([[2, 'released'], [1, 'retired']])
+    // History is not rewritten: the unit judged by v1 keeps its verdict and mask version.
+    const old = (await (await fetch(new URL(`/api/recordings/${unjudged.id}`, host), { headers: tech })).json()) as RecordingView
+    expect(old).toMatchObject({ verdict: 'pass', maskVersion: 1 })
+
+    // Retiring leaves the product without an active mask: new results wait unjudged.
+    const retired = await api('POST', `/api/masks/${res.body.id}/retire`, { comment: 'line stopped' })
+    expect(retired.status).toBe(200)
+    expect(await testUnit(422)).toMatchObject({ status: 'done', verdict: null })
+    expect((await api('POST', `/api/masks/${res.body.id}/retire`, {})).status).toBe(409)
+  })
+})
