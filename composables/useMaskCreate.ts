@@ -1,0 +1,48 @@
+import type { MaskView } from '#shared/types/api'
+import { maskCreateSchema } from '#shared/utils/mask'
+
+/** The proposal settings as the form holds them: an empty field means "the default". */
+export interface MaskProposalDraft {
+  k: number | null
+  floorDb: number | null
+  fromHz: number | null
+  toHz: number | null
+  name: string
+}
+
+export const DEFAULT_PROPOSAL: MaskProposalDraft = { k: 3, floorDb: 1.5, fromHz: null, toHz: null, name: '' }
+
+/** Creates a draft from the picked golden units (same schema as the route), then opens it. */
+export function useMaskCreate() {
+  const error = ref<string | null>(null)
+  const busy = ref(false)
+
+  async function create(product: string | null, goldenSerials: string[], d: MaskProposalDraft) {
+    error.value = null
+    const parsed = maskCreateSchema.safeParse({
+      product: product ?? '',
+      goldenSerials,
+      k: d.k ?? undefined,
+      floorDb: d.floorDb ?? undefined,
+      fromHz: d.fromHz ?? undefined,
+      toHz: d.toHz ?? undefined,
+      name: d.name.trim() || undefined,
+    })
+    if (!parsed.success) {
+      error.value = parsed.error.issues.map((i) => (i.path.length ? `${i.path.join('.')}: ${i.message}` : i.message)).join('; ')
+      return
+    }
+    busy.value = true
+    try {
+      const mask = await $fetch<MaskView>('/api/masks', { method: 'POST', body: parsed.data })
+      await refreshNuxtData('masks')
+      await navigateTo(`/masks/${mask.id}`)
+    } catch (err) {
+      error.value = apiErrorOf(err).message
+    } finally {
+      busy.value = false
+    }
+  }
+
+  return { error, busy, create }
+}

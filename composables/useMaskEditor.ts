@@ -1,0 +1,105 @@
+import type { CurveLimit, MaskView } from '#shared/types/api'
+import { maskLimitsSchema, maskReleaseSchema, maskRetireSchema } from '#shared/utils/mask'
+
+export type MaskLimitsDraft = MaskView['limits']
+
+const clone = <T>(v: T): T => JSON.parse(JSON.stringify(v)) as T
+
+/** The first problem of a breakpoint table, or null: frequencies must be positive and rising. */
+export function breakpointProblem(name: string, c: CurveLimit | undefined): string | null {
+  if (!c) return null
+  if (c.freqHz.length < 2) return `${name}: keep at least two breakpoints`
+  for (let i = 0; i < c.freqHz.length; i++) {
+    const f = c.freqHz[i]!
+    if (!(f > 0)) return `${name}: breakpoint ${i + 1} needs a frequency above 0 Hz`
+    if (i > 0 && !(f > c.freqHz[i - 1]!)) return `${name}: frequencies must rise from row to row (row ${i + 1})`
+    const lo = c.low[i]
+    const hi = c.high[i]
+    if (lo != null && hi != null && lo > hi) return `${name}: low above high at ${f} Hz`
+  }
+  return null
+}
+
+/**
+ * One mask on its page: the saved mask, a local copy of its limits that the tables edit (the chart
+ * follows it at once), and the actions of each state: save a draft, release it, retire a release.
+ */
+export function useMaskEditor(id: number) {
+  const url: string = `/api/masks/${id}`
+  const key = `mask-${id}`
+  const res = useFetch<MaskView>(url, { key })
+  const limits = ref<MaskLimitsDraft | null>(null)
+  const error = ref<string | null>(null)
+  const notice = ref<string | null>(null)
+  const busy = ref(false)
+
+  watch(res.data, (m) => (limits.value = m ? clone(m.limits) : null), { immediate: true })
+  const editable = computed(() => res.data.value?.status === 'draft')
+  const dirty = computed(() => !!res.data.value && !!limits.value && JSON.stringify(limits.value) !== JSON.stringify(res.data.value.limits))
+
+  async function run(fn: () => Promise<unknown>): Promise<boolean> {
+    error.value = null
+    notice.value = null
+    busy.value = true
+    try {
+      await fn()
+      await Promise.all([res.refresh(), refreshNuxtData('masks')])
+      return true
+    } catch (err) {
+      error.value = apiErrorOf(err).message
+      return false
+    } finally {
+      busy.value = false
+    }
+  }
+
+  function validLimits() {
+    const l = limits.value
+    const problem = l && (breakpointProblem('Response', l.curves.splDb) ?? breakpointProblem('Impedance', l.curves.impedanceOhm))
+    if (problem) return { problem }
+    const parsed = maskLimitsSchema.safeParse(l)
+    if (!parsed.success) return { problem: parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ') }
+    return { limits: parsed.data }
+  }
+
+  async function save(): Promise<boolean> {
+    const v = validLimits()
+    if (v.problem) {
+      error.value = v.problem
+      return false
+    }
+    const ok = await run(() => $fetch<MaskView>(url, { method: 'PATCH', body: { limits: v.limits } }))
+    if (ok) notice.value = 'Draft saved.'
+    return ok
+  }
+
+  function discard() {
+    if (res.data.value) limits.value = clone(res.data.value.limits)
+  }
+
+  async function release(comment: string): Promise<boolean> {
+    const parsed = maskReleaseSchema.safeParse({ comment })
+    if (!parsed.success) {
+      error.value = parsed.error.issues[0]?.message ?? 'Say why this mask is released.'
+      return false
+    }
+    const releaseUrl: string = `${url}/release`
+    let judged = 0
+    const ok = await run(async () => {
+      const r = await $fetch<{ judgedUnjudged: number }>(releaseUrl, { method: 'POST', body: parsed.data })
+      judged = r.judgedUnjudged
+    })
+    if (ok) notice.value = `Released. ${judged} result${judged === 1 ? '' : 's'} that had no verdict ${judged === 1 ? 'was' : 'were'} judged by it.`
+    return ok
+  }
+
+  async function retire(comment: string): Promise<boolean> {
+    const body = maskRetireSchema.parse({ comment: comment.trim() || undefined })
+    const retireUrl: string = `${url}/retire`
+    const ok = await run(() => $fetch<{ id: number; status: string }>(retireUrl, { method: 'POST', body }))
+    if (ok) notice.value = 'Retired. New results of this product stay unjudged until another version is released.'
+    return ok
+  }
+
+  return { mask: res.data, fetchError: res.error, limits, editable, dirty, busy, error, notice, save, discard, release, retire }
+}
