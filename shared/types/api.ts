@@ -1,4 +1,5 @@
 import type { Role } from '../utils/roles'
+import type { Coil } from '../utils/coil'
 
 /** The body of every error answer: h3's shape with a machine code in data.code. */
 export interface ApiErrorBody {
@@ -123,6 +124,12 @@ export interface ProductView {
   nominalSize: string
   sensitivityBandHz: [number, number]
   activeMaskId: number | null
+  /** The voice-coil description, when the engineer gave one. */
+  coil: Coil | null
+  /** DC resistance at 20 °C the coil should have (shared/utils/coil.ts), Ω; null without a coil. */
+  expectedRe20Ohm: number | null
+  /** Warn when the golden units' mean Re differs from expectedRe20Ohm by more than this, %. */
+  reWarnPct: number
 }
 
 export interface StationView {
@@ -142,6 +149,8 @@ export interface UnitView {
   lot: { code: string } | null
   verdict: 'pass' | 'fail' | null
   recordings: RecordingView[]
+  /** What the product's current mask says of each result, beside its historic verdict (null without a released mask). */
+  currentMask: { version: number; results: { recordingId: number; verdict: 'pass' | 'fail'; failedChecks: string[] }[] } | null
 }
 
 export interface MaskSummary {

@@ -1,7 +1,7 @@
 import { listProducts } from '../../repos/products'
-import type { ProductView } from '../../../shared/types/api'
+import type { ProductListItem } from '../../../shared/utils/product'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event)
-  return (await listProducts(useDb())) satisfies ProductView[]
+  return (await listProducts(useDb())) satisfies ProductListItem[]
 })

@@ -1,0 +1,80 @@
+import type { CoilInput } from '#shared/utils/coil'
+import type { ProductListItem, ProductCreateInput } from '#shared/utils/product'
+
+/** What the coil fields hold while the engineer types (number inputs give '' when empty). */
+export interface CoilDraft {
+  awg: number
+  by: 'turns' | 'length'
+  turns: number | ''
+  meanDiameterMm: number | ''
+  lengthM: number | ''
+  layers: number | ''
+  strands: number | ''
+}
+
+export interface ProductDraft {
+  code: string
+  name: string
+  ratedImpedanceOhm: number | ''
+  nominalSize: string
+  bandLowHz: number | ''
+  bandHighHz: number | ''
+  reWarnPct: number | ''
+  hasCoil: boolean
+  coil: CoilDraft
+}
+
+const num = (v: number | '' | null | undefined) => (v === '' || v === null || v === undefined ? undefined : Number(v))
+
+/** A new product's starting values: a four-layer 31 AWG coil, the band the engine averages over by default (300–3000 Hz). */
+export function newProductDraft(): ProductDraft {
+  return {
+    code: '',
+    name: '',
+    ratedImpedanceOhm: 8,
+    nominalSize: '',
+    bandLowHz: 300,
+    bandHighHz: 3000,
+    reWarnPct: 10,
+    hasCoil: false,
+    coil: { awg: 31, by: 'turns', turns: '', meanDiameterMm: '', lengthM: '', layers: 4, strands: 1 },
+  }
+}
+
+export function draftOfProduct(p: ProductListItem): ProductDraft {
+  const c = p.coil
+  return {
+    code: p.code,
+    name: p.name,
+    ratedImpedanceOhm: p.ratedImpedanceOhm,
+    nominalSize: p.nominalSize,
+    bandLowHz: p.sensitivityBandHz[0],
+    bandHighHz: p.sensitivityBandHz[1],
+    reWarnPct: p.reWarnPct,
+    hasCoil: c !== null,
+    coil: c
+      ? { awg: c.awg, by: c.lengthM !== undefined ? 'length' : 'turns', turns: c.turns ?? '', meanDiameterMm: c.meanDiameterMm ?? '', lengthM: c.lengthM ?? '', layers: c.layers, strands: c.strands }
+      : newProductDraft().coil,
+  }
+}
+
+/** The coil part of a draft as the API takes it (only the fields of the chosen way of giving the wire). */
+export function coilOfDraft(c: CoilDraft): CoilInput {
+  const wire = c.by === 'length' ? { lengthM: num(c.lengthM) } : { turns: num(c.turns), meanDiameterMm: num(c.meanDiameterMm) }
+  return { awg: c.awg, layers: num(c.layers)!, strands: num(c.strands), ...wire }
+}
+
+/** The body of POST /api/products (and of PATCH, which takes the same fields). */
+export function bodyOfDraft(d: ProductDraft): ProductCreateInput {
+  const low = num(d.bandLowHz)
+  const high = num(d.bandHighHz)
+  return {
+    code: d.code.trim(),
+    name: d.name,
+    ratedImpedanceOhm: num(d.ratedImpedanceOhm)!,
+    nominalSize: d.nominalSize,
+    sensitivityBandHz: low === undefined && high === undefined ? undefined : [low!, high!],
+    coil: d.hasCoil ? coilOfDraft(d.coil) : null,
+    reWarnPct: num(d.reWarnPct),
+  }
+}

@@ -1,0 +1,17 @@
+import { ProductConflict, updateProduct } from '../../repos/products'
+import { productCodeParamSchema, productPatchSchema, type ProductListItem } from '../../../shared/utils/product'
+
+/** Engineers edit a product; its code and rated impedance are fixed once units exist (409 product_in_use). */
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'engineer')
+  const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
+  const changes = await readValidatedBody(event, zodValidator(productPatchSchema))
+  try {
+    const product = await updateProduct(useDb(), code, changes)
+    if (!product) throw httpError(404, 'unknown_product', `No product ${code}`)
+    return product satisfies ProductListItem
+  } catch (err) {
+    if (err instanceof ProductConflict) throw httpError(409, err.code, err.message)
+    throw err
+  }
+})

@@ -1,0 +1,60 @@
+import { afterAll, describe, expect, inject, it } from 'vitest'
+import { signInAs, useBrowser } from '../support/browser'
+import { closeTestDb, testDb, unique } from '../support/db'
+
+const baseUrl = inject('baseUrl')
+const browser = useBrowser()
+afterAll(closeTestDb)
+
+describe('an engineer adds a product with its voice coil in the browser', () => {
+  it('sees the expected Re while typing, creates the product and finds it in the list', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'engineer', '/products')
+
+    const code = unique('W130')
+    await page.getByRole('button', { name: 'Add a product' }).click()
+    await page.fill('input[name=product-code]', code)
+    await page.fill('input[name=product-name]', 'Woofer 130 mm')
+    await page.fill('input[name=product-nominalSize]', '5.25 in')
+    await page.fill('input[name=product-rated]', '8')
+    await page.check('input[name=product-has-coil]')
+
+    // The typical four-layer 31 AWG woofer coil of tests/unit/coil.test.ts: 180 turns on Ø 26.6 mm, 6.46 Ω.
+    const live = page.getByTestId('coil-expected-re')
+    await page.selectOption('select[name=coil-awg]', '31')
+    await page.fill('input[name=coil-layers]', '4')
+    await page.fill('input[name=coil-turns]', '180')
+    await expect.poll(() => live.textContent()).toContain('—') // no diameter yet: no figure
+    await page.fill('input[name=coil-mean-diameter]', '26.6')
+    await expect.poll(() => live.textContent()).toContain('6.46 Ω')
+    expect(await live.textContent()).toContain('81 %') // 6.46 Ω of 8 Ω rated
+    await page.fill('input[name=coil-turns]', '90')
+    await expect.poll(() => live.textContent()).toContain('3.23 Ω')
+    await page.fill('input[name=coil-turns]', '180')
+
+    await page.getByRole('button', { name: 'Create product' }).click()
+    const row = page.getByTestId(`product-${code}`)
+    await expect.poll(() => row.count()).toBe(1)
+    expect(await row.getByTestId('product-expected-re').textContent()).toBe('6.46 Ω')
+    expect(await row.textContent()).toContain('AWG 31')
+    const stored = await testDb()('products').where({ code }).first()
+    expect(stored.coil).toMatchObject({ awg: 31, turns: 180, meanDiameterMm: 26.6, layers: 4 })
+    await page.close()
+  })
+
+  it('shows the schema messages beside the fields and creates nothing for a bad form', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'engineer', '/products')
+    const code = unique('BAD')
+    await page.getByRole('button', { name: 'Add a product' }).click()
+    await page.fill('input[name=product-code]', code)
+    await page.check('input[name=product-has-coil]')
+    await page.fill('input[name=coil-turns]', '180')
+    await page.getByRole('button', { name: 'Create product' }).click()
+    await expect.poll(() => page.getByRole('alert').textContent()).toContain('Check the highlighted fields')
+    expect(await page.locator('form').textContent()).toContain('name is required')
+    expect(await page.locator('form').textContent()).toContain('a mean diameter is needed with turns')
+    expect(await testDb()('products').where({ code }).first()).toBeUndefined()
+    await page.close()
+  })
+})
