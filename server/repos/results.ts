@@ -119,18 +119,23 @@ function toStored(r: StoredRow): StoredResult {
   }
 }
 
-/** Production results of a product (no return tests), newest first. */
-export function productResultsQuery(db: Knex, productId: number) {
-  return db('results as res')
+/** Results of a product, newest first: production only, unless return tests are asked for too. */
+export function productResultsQuery(db: Knex, productId: number, includeReturnTests = false) {
+  const q = db('results as res')
     .join('recordings as r', 'r.id', 'res.recording_id')
     .join('units as u', 'u.id', 'res.unit_id')
-    .where({ 'u.product_id': productId, 'r.is_return_test': false })
+    .where({ 'u.product_id': productId })
     .select(STORED_COLUMNS)
     .orderBy('res.id', 'desc')
+  return includeReturnTests ? q : q.where('r.is_return_test', false)
 }
 
-export async function listProductResults(db: Knex, productId: number, opts: { last?: number; unjudgedOnly?: boolean; recordingIds?: number[] } = {}): Promise<StoredResult[]> {
-  const q = productResultsQuery(db, productId)
+export async function listProductResults(
+  db: Knex,
+  productId: number,
+  opts: { last?: number; unjudgedOnly?: boolean; recordingIds?: number[]; includeReturnTests?: boolean } = {},
+): Promise<StoredResult[]> {
+  const q = productResultsQuery(db, productId, opts.includeReturnTests)
   if (opts.unjudgedOnly) q.whereNull('res.verdict')
   if (opts.recordingIds) q.whereIn('res.recording_id', opts.recordingIds)
   if (opts.last) q.limit(opts.last)

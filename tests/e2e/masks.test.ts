@@ -2,7 +2,7 @@ import { mean, sampleStandardDeviation } from 'simple-statistics'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
-import type { MaskPreview, MaskView, RecordingView } from '../../shared/types/api'
+import type { MaskPreview, MaskView, RecordingView, UnitView } from '../../shared/types/api'
 import { signIn, useTestServer } from '../support/app'
 import { closeTestDb, makeProduct, makeStation, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
@@ -160,6 +160,11 @@ describe('a mask from golden units through its life', () => {
     // History is not rewritten: the unit judged by v1 keeps its verdict and mask version.
     const old = (await (await fetch(new URL(`/api/recordings/${unjudged.id}`, host), { headers: tech })).json()) as RecordingView
     expect(old).toMatchObject({ verdict: 'pass', maskVersion: 1 })
+    // The unit page shows, beside that verdict, what the current mask (v2) says of the same result.
+    const lowest = golden.reduce((a, b) => (a.parameters!.fsHz! < b.parameters!.fsHz! ? a : b))
+    const unit = (await (await fetch(new URL(`/api/units/${lowest.serial}`, host), { headers: tech })).json()) as UnitView
+    expect(unit.recordings[0]).toMatchObject({ verdict: 'pass', maskVersion: 1 })
+    expect(unit.currentMask).toEqual({ version: 2, results: [{ recordingId: lowest.id, verdict: 'fail', failedChecks: ['fsHz'] }] })
 
     // Retiring leaves the product without an active mask: new results wait unjudged.
     const retired = await api('POST', `/api/masks/${res.body.id}/retire`, { comment: 'line stopped' })

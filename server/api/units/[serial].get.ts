@@ -1,4 +1,4 @@
-import { getUnitView } from '../../repos/units-view'
+import { getUnitView } from '../../services/units'
 import { serialParamSchema } from '../../../shared/utils/bench'
 import type { UnitView } from '../../../shared/types/api'
 
