@@ -53,8 +53,18 @@ export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, use
     if (elsewhere.length) throw new GoldenError('golden_wrong_product', `Not ${product.code} units: ${elsewhere.join(', ')}`)
     throw new GoldenError('golden_not_measured', `No measured result for: ${missing.join(', ')}`)
   }
-  const options = { k: input.k, floorDb: input.floorDb, fromHz: input.fromHz, toHz: input.toHz }
-  const limits = proposeLimits(golden, { ...options, sweepBandHz: await sweepBandOf(db, golden) })
+  const { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve } = input
+  const options = { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve }
+  const side = (s?: { k?: number; floorDb?: number }) => s && { k: s.k, floor: s.floorDb }
+  const limits = proposeLimits(golden, {
+    k,
+    floorDb,
+    fromHz,
+    toHz,
+    sweepBandHz: await sweepBandOf(db, golden),
+    response: { upper: side(upper), lower: side(lower), regions: regions?.map((r) => ({ fromHz: r.fromHz, toHz: r.toHz, upper: r.upperDb, lower: r.lowerDb })) },
+    impedance: impedanceCurve ?? false,
+  })
   return createMaskDraft(db, {
     productId: product.id,
     name: input.name || `From ${golden.length} golden units`,

@@ -68,6 +68,11 @@ export type MaskStatus = (typeof MASK_STATUSES)[number]
 const productCode = z.string().trim().min(1).max(40).regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'codes may hold letters, digits and - _ . only')
 const goldenSerial = z.string().trim().min(3).max(64).regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'serial may hold letters, digits and - _ . only')
 
+const bandSideSchema = z.object({ k: z.number().positive().max(10).optional(), floorDb: z.number().min(0).max(20).optional() })
+const marginRegionSchema = z
+  .object({ fromHz: z.number().positive(), toHz: z.number().positive(), upperDb: z.number().min(0).max(30).optional(), lowerDb: z.number().min(0).max(30).optional() })
+  .refine((r) => r.fromHz < r.toHz, { message: 'fromHz must be below toHz', path: ['toHz'] })
+
 /** POST /api/masks: a draft proposed from golden units. */
 export const maskCreateSchema = z
   .object({
@@ -78,6 +83,13 @@ export const maskCreateSchema = z
     fromHz: z.number().positive().optional(),
     toHz: z.number().positive().optional(),
     name: z.string().trim().max(80).optional(),
+    /** The response band's sides may differ: their own k and floor (dB). */
+    upper: bandSideSchema.optional(),
+    lower: bandSideSchema.optional(),
+    /** Extra margin (dB) in regions the engineer marks, e.g. near cone break-up. */
+    regions: z.array(marginRegionSchema).max(20).optional(),
+    /** Propose an impedance-curve band too (off by default). */
+    impedanceCurve: z.boolean().optional(),
   })
   .refine((m) => new Set(m.goldenSerials).size === m.goldenSerials.length, { message: 'each golden unit once', path: ['goldenSerials'] })
   .refine((m) => m.fromHz === undefined || m.toHz === undefined || m.fromHz < m.toHz, { message: 'fromHz must be below toHz', path: ['toHz'] })

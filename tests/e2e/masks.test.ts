@@ -100,6 +100,24 @@ describe('a mask from golden units through its life', () => {
     expect(v1.scalars.fsHz!.high).toBeCloseTo(mean(fs) + half, 2)
   })
 
+  it('takes separate upper and lower sides and marked regions for the response band', async () => {
+    const base = { product: product.code, goldenSerials: golden.map((g) => g.serial), k: 3, floorDb: 1.5 }
+    const plain = (await api<MaskView>('POST', '/api/masks', base)).body
+    const shaped = await api<MaskView>('POST', '/api/masks', { ...base, upper: { floorDb: 4 }, regions: [{ fromHz: 2000, toHz: 5000, lowerDb: 2 }], impedanceCurve: true })
+    expect(shaped.status).toBe(201)
+    const at = (m: MaskView, f: number) => m.curve!.freqHz.findIndex((x) => x >= f)
+    const i1k = at(plain, 1000)
+    const i3k = at(plain, 3000)
+    // Above: at least the 4 dB floor; below: unchanged at 1 kHz, 2 dB wider inside the marked region.
+    expect(shaped.body.curve!.high[i1k]! - plain.golden.meanSplDb![plain.golden.freqHz.findIndex((x) => x >= plain.curve!.freqHz[i1k]!)]!).toBeGreaterThanOrEqual(4 - 1e-3)
+    expect(shaped.body.curve!.low[i1k]).toBeCloseTo(plain.curve!.low[i1k]!, 3)
+    expect(plain.curve!.low[i3k]! - shaped.body.curve!.low[i3k]!).toBeCloseTo(2, 3)
+    expect(shaped.body.limits.curves.impedanceOhm?.freqHz.length).toBeGreaterThan(10)
+    expect(plain.limits.curves.impedanceOhm).toBeUndefined()
+    // Drafts nobody released stay drafts (they do not block the versions below).
+    expect([plain.status, shaped.body.status]).toEqual(['draft', 'draft'])
+  })
+
   it('edits the draft; previews it with no active mask', async () => {
     const limits = { ...v1.limits, scalars: { ...v1.limits.scalars, fsHz: { low: 10, high: 200 } } }
     const res = await api<MaskView>('PATCH', `/api/masks/${v1.id}`, { limits, name: 'wide Fs' })
@@ -141,7 +159,8 @@ describe('a mask from golden units through its life', () => {
 
   it('previews a tighter v2 against v1: the units that would change and the check that causes it', async () => {
     const res = await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: golden.map((g) => g.serial) })
-    expect(res.body.version).toBe(2)
+    const v2 = res.body.version
+    expect(v2).toBeGreaterThan(1)
     const fsValues = golden.map((g) => g.parameters!.fsHz!).sort((a, b) => a - b)
     // An Fs window that leaves out the lowest golden unit.
     const tight = { ...res.body.limits, scalars: { ...res.body.limits.scalars, fsHz: { low: (fsValues[0]! + fsValues[1]!) / 2, high: 200 } } }
@@ -156,15 +175,16 @@ describe('a mask from golden units through its life', () => {
     const released = await api('POST', `/api/masks/${res.body.id}/release`, { comment: 'tighter Fs after spider change' })
     expect(released.status).toBe(200)
     const list = (await api<{ version: number; status: string }[]>('GET', `/api/masks?product=${product.code}`)).body
-    expect(list.map((m) => [m.version, m.status])).toEqual([[2, 'released'], [1, 'retired']])
+    expect(list.filter((m) => m.status !== 'draft').map((m) => [m.version, m.status])).toEqual([[v2, 'released'], [1, 'retired']])
+    expect(list.map((m) => m.version)).toEqual([...list.map((m) => m.version)].sort((a, b) => b - a))
     // History is not rewritten: the unit judged by v1 keeps its verdict and mask version.
     const old = (await (await fetch(new URL(`/api/recordings/${unjudged.id}`, host), { headers: tech })).json()) as RecordingView
     expect(old).toMatchObject({ verdict: 'pass', maskVersion: 1 })
-    // The unit page shows, beside that verdict, what the current mask (v2) says of the same result.
+    // The unit page shows, beside that verdict, what the current mask says of the same result.
     const lowest = golden.reduce((a, b) => (a.parameters!.fsHz! < b.parameters!.fsHz! ? a : b))
     const unit = (await (await fetch(new URL(`/api/units/${lowest.serial}`, host), { headers: tech })).json()) as UnitView
     expect(unit.recordings[0]).toMatchObject({ verdict: 'pass', maskVersion: 1 })
-    expect(unit.currentMask).toEqual({ version: 2, results: [{ recordingId: lowest.id, verdict: 'fail', failedChecks: ['fsHz'] }] })
+    expect(unit.currentMask).toEqual({ version: v2, results: [{ recordingId: lowest.id, verdict: 'fail', failedChecks: ['fsHz'] }] })
 
     // Retiring leaves the product without an active mask: new results wait unjudged.
     const retired = await api('POST', `/api/masks/${res.body.id}/retire`, { comment: 'line stopped' })
