@@ -31,8 +31,12 @@ export function useProductEditor() {
       await refreshNuxtData('products')
       return saved
     } catch (err) {
-      error.value = apiErrorOf(err).message
+      const { message, code } = apiErrorOf(err)
+      error.value = message
       fieldErrors.value = issuesOf(err)
+      // A 409 names the field it is about: the code that is taken, or what may no longer change.
+      const field = (err as { data?: { data?: { field?: unknown } } }).data?.data?.field
+      if (typeof field === 'string' && (code === 'duplicate_product' || code === 'product_in_use')) fieldErrors.value = { [field]: message }
       return undefined
     } finally {
       busy.value = false

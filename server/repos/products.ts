@@ -25,6 +25,8 @@ export class ProductConflict extends Error {
   constructor(
     readonly code: 'duplicate_product' | 'product_in_use',
     message: string,
+    /** The input field the refusal is about (for the form). */
+    readonly field: 'code' | 'ratedImpedanceOhm' = 'code',
   ) {
     super(message)
     this.name = 'ProductConflict'
@@ -132,7 +134,7 @@ export async function updateProduct(db: Knex, code: string, changes: ProductChan
     const newRated = changes.ratedImpedanceOhm !== undefined && changes.ratedImpedanceOhm !== Number(row.rated_impedance_ohm)
     if ((newCode || newRated) && (await trx('units').where({ product_id: row.id }).first('id'))) {
       const what = newCode ? 'code' : 'rated impedance'
-      throw new ProductConflict('product_in_use', `Units of ${code} exist: its ${what} can no longer change (create a new product instead)`)
+      throw new ProductConflict('product_in_use', `Units of ${code} exist: its ${what} can no longer change (create a new product instead)`, newCode ? 'code' : 'ratedImpedanceOhm')
     }
     const update: Record<string, unknown> = {}
     if (changes.code !== undefined) update.code = changes.code

@@ -27,7 +27,7 @@ describe('an engineer adds a product with its voice coil in the browser', () => 
     await expect.poll(() => live.textContent()).toContain('—') // no diameter yet: no figure
     await page.fill('input[name=coil-mean-diameter]', '26.6')
     await expect.poll(() => live.textContent()).toContain('6.46 Ω')
-    expect(await live.textContent()).toContain('81 %') // 6.46 Ω of 8 Ω rated
+    expect(await live.textContent()).toMatch(/81\s%/) // 6.46 Ω of 8 Ω rated
     await page.fill('input[name=coil-turns]', '90')
     await expect.poll(() => live.textContent()).toContain('3.23 Ω')
     await page.fill('input[name=coil-turns]', '180')
@@ -39,6 +39,14 @@ describe('an engineer adds a product with its voice coil in the browser', () => 
     expect(await row.textContent()).toContain('AWG 31')
     const stored = await testDb()('products').where({ code }).first()
     expect(stored.coil).toMatchObject({ awg: 31, turns: 180, meanDiameterMm: 26.6, layers: 4 })
+
+    // Edit: 200 turns instead of 180 → 200 · π · 26.6 mm = 16.71 m × 0.4296 Ω/m = 7.18 Ω.
+    await row.getByRole('button', { name: `Edit ${code}` }).click()
+    await page.fill('input[name=coil-turns]', '200')
+    await expect.poll(() => live.textContent()).toContain('7.18 Ω')
+    await page.getByRole('button', { name: 'Save changes' }).click()
+    await expect.poll(() => row.getByTestId('product-expected-re').textContent()).toBe('7.18 Ω')
+    expect((await testDb()('products').where({ code }).first()).coil.turns).toBe(200)
     await page.close()
   })
 

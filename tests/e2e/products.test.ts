@@ -171,10 +171,10 @@ describe('PATCH /api/products/:code', () => {
     await addUnit(created.id)
     const rated = await call('PATCH', `/api/products/${input.code}`, engineer, { ratedImpedanceOhm: 4 })
     expect(rated.status).toBe(409)
-    expect(rated.body.data!.code).toBe('product_in_use')
+    expect(rated.body.data).toMatchObject({ code: 'product_in_use', field: 'ratedImpedanceOhm' })
     const renamed = await call('PATCH', `/api/products/${input.code}`, engineer, { code: unique('X') })
     expect(renamed.status).toBe(409)
-    expect(renamed.body.data!.code).toBe('product_in_use')
+    expect(renamed.body.data).toMatchObject({ code: 'product_in_use', field: 'code' })
     // The same values again are no change; the name may change.
     const same = await call('PATCH', `/api/products/${input.code}`, engineer, { code: input.code, ratedImpedanceOhm: 8, name: 'Renamed' })
     expect(same.status).toBe(200)

@@ -11,7 +11,7 @@ export default defineEventHandler(async (event) => {
     if (!product) throw httpError(404, 'unknown_product', `No product ${code}`)
     return product satisfies ProductListItem
   } catch (err) {
-    if (err instanceof ProductConflict) throw httpError(409, err.code, err.message)
+    if (err instanceof ProductConflict) throw httpError(409, err.code, err.message, { field: err.field })
     throw err
   }
 })

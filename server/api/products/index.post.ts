@@ -11,7 +11,7 @@ export default defineEventHandler(async (event) => {
     setResponseStatus(event, 201)
     return (await getProductById(db, id))! satisfies ProductListItem
   } catch (err) {
-    if (err instanceof ProductConflict) throw httpError(409, err.code, err.message)
+    if (err instanceof ProductConflict) throw httpError(409, err.code, err.message, { field: err.field })
     throw err
   }
 })
