@@ -1,5 +1,6 @@
 import type { Knex } from 'knex'
 import type { MaskCandidate, MaskPreview, MaskView } from '../../shared/types/api.ts'
+import { reDisagreementPct } from '../../shared/utils/coil.ts'
 import { SCALAR_LIMIT_NAMES, type MaskCreateInput, type MaskLimits } from '../../shared/utils/mask.ts'
 import { createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, type ActiveMask } from '../repos/masks.ts'
 import { getProductByCode, getProductById } from '../repos/products.ts'
@@ -114,10 +115,9 @@ export async function getMaskView(db: Knex, id: number): Promise<MaskView | unde
   const freqHz = golden.find((g) => g.curves.freqHz?.length)?.curves.freqHz ?? []
   const spl = golden.filter((g) => g.curves.splDb)
   const meanSplDb = spl.length ? freqHz.map((_, i) => summarize(spl.map((g) => g.curves.splDb![i]))?.mean ?? null) : null
-  const expected = (product as { expectedRe20Ohm?: number | null }).expectedRe20Ohm ?? null
-  const warnPct = (product as { reWarnPct?: number }).reWarnPct ?? 10
+  const expected = product.expectedRe20Ohm
   const reMean = figures.re20Ohm?.mean
-  const off = expected && reMean ? (100 * (reMean - expected)) / expected : null
+  const off = expected && reMean !== undefined ? reDisagreementPct(expected, reMean) : null
   return {
     ...m,
     product: m.productCode,
@@ -132,7 +132,7 @@ export async function getMaskView(db: Knex, id: number): Promise<MaskView | unde
     },
     expectedRe20Ohm: expected,
     reWarning:
-      off !== null && Math.abs(off) > warnPct
+      off !== null && Math.abs(off) > product.reWarnPct
         ? `The golden units' Re at 20 °C (${reMean!.toFixed(2)} Ω) is ${Math.abs(off).toFixed(1)} % ${off > 0 ? 'above' : 'below'} the ${expected!.toFixed(2)} Ω expected from the voice-coil description: check the wire or the description.`
         : null,
   }

@@ -4,6 +4,7 @@ import { AnalysisInputError } from '../analysis/index'
 import { UnitInputError } from '../repos/units'
 import { UploadRefused } from '../services/ingest'
 import { MaskStateError } from '../repos/masks'
+import { ProductConflict } from '../repos/products'
 import { GoldenError } from '../services/masks'
 import { ProposeError } from '../verdict/propose'
 
@@ -58,6 +59,7 @@ export function toHttpError(err: unknown): unknown {
   if (err instanceof MaskStateError) return httpError(err.code === 'unknown_mask' ? 404 : 409, err.code, err.message)
   if (err instanceof GoldenError) return httpError(err.code === 'unknown_product' ? 404 : 422, err.code, err.message)
   if (err instanceof ProposeError) return httpError(422, err.code, err.message)
+  if (err instanceof ProductConflict) return httpError(409, err.code, err.message, { field: err.field })
   return err
 }
 

@@ -63,6 +63,27 @@ describe('masks are for engineers', () => {
   })
 })
 
+describe('the voice-coil cross-check', () => {
+  it('warns when the golden units disagree with the Re expected from the coil description', async () => {
+    const code = unique('COIL')
+    // 20 m of AWG 31 copper: about 8.6 Ω at 20 °C (ASTM B258 diameter, IEC 60028 resistivity), far from the test driver's 5.9 Ω.
+    const created = await api<{ expectedRe20Ohm: number }>('POST', '/api/products', { code, name: 'Coil check', ratedImpedanceOhm: 6, coil: { awg: 31, lengthM: 20, layers: 4 } })
+    expect(created.status).toBe(201)
+    expect(created.body.expectedRe20Ohm).toBeGreaterThan(8)
+    const serials: string[] = []
+    for (let i = 0; i < 5; i++) {
+      const serial = unique('CU')
+      const up = await postRecording(host, tech, { serial, product: code, station: station.id }, { bytes: generateRecording({ seed: 450 + i }), name: 'c.wav' })
+      await waitFinished(host, tech, up.body.id)
+      serials.push(serial)
+    }
+    const mask = await api<MaskView>('POST', '/api/masks', { product: code, goldenSerials: serials })
+    expect(mask.status).toBe(201)
+    expect(mask.body.expectedRe20Ohm).toBeCloseTo(created.body.expectedRe20Ohm, 6)
+    expect(mask.body.reWarning).toMatch(/below the \d+\.\d+ Ω expected from the voice-coil description/)
+  })
+})
+
 describe('a mask from golden units through its life', () => {
   let v1: MaskView
   let unjudged: RecordingView
@@ -88,7 +109,7 @@ describe('a mask from golden units through its life', () => {
     const res = await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: golden.map((g) => g.serial), k: 3, floorDb: 1.5 })
     expect(res.status).toBe(201)
     v1 = res.body
-    expect(v1).toMatchObject({ product: product.code, version: 1, status: 'draft', goldenCount: 8 })
+    expect(v1).toMatchObject({ product: product.code, version: 1, status: 'draft', goldenCount: 8, expectedRe20Ohm: null, reWarning: null })
     expect(v1.curve?.freqHz.length).toBeGreaterThan(10)
     // General-purpose reference library (simple-statistics) on the same golden Fs values.
     const fs = golden.map((g) => g.parameters!.fsHz!)

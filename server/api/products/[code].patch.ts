@@ -1,4 +1,4 @@
-import { ProductConflict, updateProduct } from '../../repos/products'
+import { updateProduct } from '../../repos/products'
 import { productCodeParamSchema, productPatchSchema, type ProductListItem } from '../../../shared/utils/product'
 
 /** Engineers edit a product; its code and rated impedance are fixed once units exist (409 product_in_use). */
@@ -11,7 +11,6 @@ export default defineEventHandler(async (event) => {
     if (!product) throw httpError(404, 'unknown_product', `No product ${code}`)
     return product satisfies ProductListItem
   } catch (err) {
-    if (err instanceof ProductConflict) throw httpError(409, err.code, err.message, { field: err.field })
-    throw err
+    throw toHttpError(err)
   }
 })

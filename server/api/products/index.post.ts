@@ -1,4 +1,4 @@
-import { createProduct, getProductById, ProductConflict } from '../../repos/products'
+import { createProduct, getProductById } from '../../repos/products'
 import { productCreateSchema, type ProductListItem } from '../../../shared/utils/product'
 
 /** Engineers add a driver model: 201 with the product, 409 duplicate_product for a code in use. */
@@ -11,7 +11,6 @@ export default defineEventHandler(async (event) => {
     setResponseStatus(event, 201)
     return (await getProductById(db, id))! satisfies ProductListItem
   } catch (err) {
-    if (err instanceof ProductConflict) throw httpError(409, err.code, err.message, { field: err.field })
-    throw err
+    throw toHttpError(err)
   }
 })
