@@ -101,7 +101,7 @@ export async function seed(knex: Knex): Promise<void> {
     // Products, stations, lots and units.
     const productIds = new Map<string, number>()
     for (const p of PRODUCTS) {
-      productIds.set(p.code, await createProduct(knex, { code: p.code, name: p.name, ratedImpedanceOhm: p.ratedImpedanceOhm, nominalSize: p.nominalSize, sensitivityBandHz: p.sensitivityBandHz }))
+      productIds.set(p.code, await createProduct(knex, { code: p.code, name: p.name, ratedImpedanceOhm: p.ratedImpedanceOhm, nominalSize: p.nominalSize, sensitivityBandHz: p.sensitivityBandHz, coil: p.coil }))
     }
     for (const s of STATIONS) {
       const { id } = await createStation(knex, { name: s.name, line: s.line, profile: s.profile, createdBy: ctx.users.engineer })

@@ -7,6 +7,7 @@
  */
 import { COPPER_ALPHA_PER_K, DEFAULT_PROFILE, stationProfileSchema, type StationProfile } from '../../server/analysis/index.ts'
 import { gaussian, mulberry32, type Defect, type DriverModel } from '../../fixtures/generator.ts'
+import type { Coil } from '../../shared/utils/coil.ts'
 
 export const FACTORY = {
   name: 'Quillbank Transducer Works',
@@ -42,6 +43,8 @@ export interface DemoProduct {
   sensitivityBandHz: [number, number]
   /** Tag in the serial and lot codes. */
   serialTag: string
+  /** The voice coil as designed (its expected Re at 20 °C matches the nominal Re). */
+  coil: Coil
   nominal: PhysicalDriver
   spread: Spread
   /** Invented lot numbers and how many units each lot sends to the end-of-line test. */
@@ -73,6 +76,7 @@ export const PRODUCTS: DemoProduct[] = [
     nominalSize: '6.5 in',
     sensitivityBandHz: [300, 3000],
     serialTag: '6W',
+    coil: { awg: 30, turns: 196, meanDiameterMm: 32.5, layers: 4, strands: 1 },
     // Fs ≈ 41 Hz, Qms ≈ 4.3, Qes ≈ 0.44, about 89 dB at 2.83 V / 1 m.
     nominal: { re20Ohm: 6.8, leH: 0.0006, blTm: 7.7, mmsKg: 0.015, cmsMPerN: 0.001, rmsKgPerS: 0.9, sdM2: 0.0133 },
     spread: TYPICAL_SPREAD,
@@ -99,6 +103,7 @@ export const PRODUCTS: DemoProduct[] = [
     nominalSize: '5.25 in',
     sensitivityBandHz: [300, 3000],
     serialTag: '5W',
+    coil: { awg: 31, turns: 184, meanDiameterMm: 26.6, layers: 4, strands: 1 },
     // A four-layer copper coil of about 6.6 Ω (issue 5's check value is "about 6.5 Ω", common practice); Fs ≈ 58 Hz.
     nominal: { re20Ohm: 6.6, leH: 0.00045, blTm: 6.4, mmsKg: 0.0085, cmsMPerN: 0.000886, rmsKgPerS: 0.885, sdM2: 0.0085 },
     spread: TYPICAL_SPREAD,
@@ -123,6 +128,7 @@ export const PRODUCTS: DemoProduct[] = [
     nominalSize: '4 in',
     sensitivityBandHz: [500, 5000],
     serialTag: '4F',
+    coil: { awg: 28, turns: 252, meanDiameterMm: 20, layers: 2, strands: 1 },
     // Fs ≈ 85 Hz, Qms ≈ 5, Qes ≈ 0.53.
     nominal: { re20Ohm: 3.4, leH: 0.0001, blTm: 3.8, mmsKg: 0.0042, cmsMPerN: 0.000835, rmsKgPerS: 0.449, sdM2: 0.0053 },
     spread: TYPICAL_SPREAD,

@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest'
+import { expectedRe20Ohm } from '../../shared/utils/coil'
 import {
   DEFAULT_SCENARIO_SEED,
   EXPECTED_CHECK,
@@ -117,5 +118,12 @@ describe('fault physics', () => {
     expect(faulty(w165.nominal, 'rubbing_coil', w165.code).defect).toBe('rub_buzz')
     expect(faulty(w165.nominal, 'open_coil', w165.code).defect).toBe('open_coil')
     expect(faulty(w165.nominal, null, w165.code)).toEqual({ parts: w165.nominal, defect: 'none' })
+  })
+})
+
+describe('demo voice coils', () => {
+  it.each(PRODUCTS.map((p) => [p.code, p] as const))('%s: the coil as designed gives its nominal Re within 1 %', (_code, p) => {
+    // Expected Re from the wire (ASTM B258 diameter, IEC 60028 copper): the seed's units are built around the same value.
+    expect(Math.abs(expectedRe20Ohm(p.coil) - p.nominal.re20Ohm) / p.nominal.re20Ohm).toBeLessThan(0.01)
   })
 })
