@@ -44,10 +44,6 @@ export async function getActiveMask(db: Knex, productId: number): Promise<Active
   return r && { id: Number(r.id), version: r.version, limits: maskLimitsSchema.parse(r.limits) }
 }
 
-export async function getMaskRow(db: Knex, id: number): Promise<MaskRow | undefined> {
-  return db<MaskRow>('masks').where({ id: String(id) }).first()
-}
-
 function summaryQuery(db: Knex) {
   return db('masks as m')
     .join('products as p', 'p.id', 'm.product_id')
