@@ -43,7 +43,8 @@ export function useMaskEditor(id: number) {
     busy.value = true
     try {
       await fn()
-      await Promise.all([res.refresh(), refreshNuxtData('masks')])
+      // The overview and the products' active mask change with every state change.
+      await Promise.all([res.refresh(), refreshNuxtData(['masks', 'mask-products'])])
       return true
     } catch (err) {
       error.value = apiErrorOf(err).message
