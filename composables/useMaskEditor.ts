@@ -24,10 +24,10 @@ export function breakpointProblem(name: string, c: CurveLimit | undefined): stri
  * One mask on its page: the saved mask, a local copy of its limits that the tables edit (the chart
  * follows it at once), and the actions of each state: save a draft, release it, retire a release.
  */
-export function useMaskEditor(id: number) {
+export async function useMaskEditor(id: number) {
   const url: string = `/api/masks/${id}`
   const key = `mask-${id}`
-  const res = useFetch<MaskView>(url, { key })
+  const res = await useFetch<MaskView>(url, { key })
   const limits = ref<MaskLimitsDraft | null>(null)
   const error = ref<string | null>(null)
   const notice = ref<string | null>(null)

@@ -19,6 +19,8 @@ let product: { id: number; code: string }
 let station: { id: number; token: string }
 let page: Page
 const golden: RecordingView[] = []
+/** What the page printed to its console (hydration mismatches show up here). */
+const consoleLines: string[] = []
 
 /** One healthy generated unit through the station API, analysed by the worker. */
 async function uploadUnit(seed: number): Promise<RecordingView> {
@@ -44,8 +46,8 @@ beforeAll(async () => {
   station = await makeStation()
   for (let seed = 1; seed <= GOLDEN_COUNT; seed++) golden.push(await uploadUnit(300 + seed))
   page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
-  page.on('console', (m) => console.log('[page]', page.url(), m.text()))
-  page.on('pageerror', (e) => console.log('[pageerror]', e.message))
+  page.on('console', (m) => consoleLines.push(m.text()))
+  page.on('pageerror', (e) => consoleLines.push(e.message))
   await signInAs(page, baseUrl, 'engineer', '/masks')
 }, 300_000)
 
@@ -92,7 +94,9 @@ describe('an engineer builds, previews and releases a mask', () => {
     expect(advice).toMatch(/With\s+6\s+units, σ is known to about ±31\.6 %/)
     expect(advice).toMatch(/about\s+3\.9 %\s+of good units/)
     await page.getByTestId('mask-name').fill('browser test limits')
+    await page.evaluate('window.scrollTo(0, 0)')
     await shot('mask-new')
+    await shot('mask-new-full', true)
     await page.getByTestId('mask-create').click()
     await page.waitForURL((u) => /^\/masks\/\d+$/.test(u.pathname), { timeout: 20_000 })
     maskId = Number(new URL(page.url()).pathname.split('/').pop())
@@ -133,6 +137,7 @@ describe('an engineer builds, previews and releases a mask', () => {
   })
 
   it('previews a tightened Fs limit on past results, then the proposal, before release', async () => {
+    const fsLow = await page.getByTestId('scalar-fsHz-low').inputValue()
     const fsHigh = await page.getByTestId('scalar-fsHz-high').inputValue()
     // Fs high limit below every unit's Fs: all six would fail, and the preview says Fs is why.
     await page.getByTestId('scalar-fsHz-high').fill('30')
@@ -148,12 +153,15 @@ describe('an engineer builds, previews and releases a mask', () => {
     expect((await fsRow.locator('td').allTextContents())[0]).toBe(String(GOLDEN_COUNT))
     await shot('mask-preview-tight')
 
+    await page.getByTestId('scalar-fsHz-low').fill(fsLow)
     await page.getByTestId('scalar-fsHz-high').fill(fsHigh)
     await page.getByTestId('mask-preview-run').click()
     await expect.poll(() => draftYield.textContent().catch(() => ''), { timeout: 20_000 }).toContain('100.0 %')
     expect(await draftYield.textContent()).toMatch(/6\s+pass\s+·\s+0\s+fail/)
-    const saved = (await (await page.request.get(new URL(`/api/masks/${maskId}`, baseUrl).toString())).json()) as { limits: { scalars: { fsHz: { high: number } } } }
-    expect(saved.limits.scalars.fsHz.high).toBe(Number(fsHigh))
+    await page.waitForTimeout(500) // the smooth scroll to the answer
+    await shot('mask-preview-pass')
+    const saved = (await (await page.request.get(new URL(`/api/masks/${maskId}`, baseUrl).toString())).json()) as { limits: { scalars: { fsHz: unknown } } }
+    expect(saved.limits.scalars.fsHz).toEqual({ low: Number(fsLow), high: Number(fsHigh) })
   })
 
   it('releases only with a comment, judges the waiting results, and judges a new unit with this version', async () => {
@@ -170,6 +178,7 @@ describe('an engineer builds, previews and releases a mask', () => {
     expect(await page.getByTestId('mask-savebar').count()).toBe(0)
     expect(await page.getByTestId('mask-scalars').locator('input[type=number]').count()).toBe(0)
     expect(await page.getByTestId('mask-history').textContent()).toContain(why)
+    expect(await page.getByTestId('mask-retire-comment').inputValue()).toBe('')
     await shot('mask-released')
 
     const view = (await (await page.request.get(new URL(`/api/masks/${maskId}`, baseUrl).toString())).json()) as { version: number }
@@ -188,6 +197,18 @@ describe('an engineer builds, previews and releases a mask', () => {
     expect(text).toContain('Released · active')
     expect(text).toContain(why)
     await shot('mask-list')
+  })
+
+  it('renders each mask page on the server with its data (nothing to repair on hydration)', async () => {
+    for (const path of [`/masks/${maskId}`, '/masks', `/masks/new?product=${product.code}`]) {
+      const url = new URL(path, baseUrl).toString()
+      const html = await (await page.request.get(url)).text()
+      if (path.startsWith('/masks/') && !path.includes('new')) expect(html).toContain('data-testid="mask-history"')
+      consoleLines.length = 0
+      await page.goto(url)
+      await page.waitForLoadState('networkidle')
+      expect(consoleLines.filter((l) => /hydration/i.test(l))).toEqual([])
+    }
   })
 
   it('retires the release, after which a new unit is not judged', async () => {
