@@ -199,6 +199,33 @@ describe('an engineer builds, previews and releases a mask', () => {
     await shot('mask-list')
   })
 
+  it('previews a second version against the released one: tightening Fs fails the line', async () => {
+    await page.getByTestId(`mask-product-${product.code}`).getByRole('link', { name: /^New mask for/ }).click()
+    await page.waitForURL((u) => u.pathname === '/masks/new' && u.searchParams.get('product') === product.code)
+    expect(await page.getByTestId('mask-product').inputValue()).toBe(product.code)
+    // The six golden units and the unit judged by v1 are all candidates now.
+    await expect.poll(() => page.getByTestId('candidate-row').count()).toBe(GOLDEN_COUNT + 1)
+    await page.getByRole('checkbox', { name: 'Pick every listed unit' }).check()
+    await expect.poll(() => page.getByTestId('mask-picked-count').textContent()).toContain(`${GOLDEN_COUNT + 1} picked`)
+    await page.getByTestId('mask-create').click()
+    await page.waitForURL((u) => /^\/masks\/\d+$/.test(u.pathname) && !u.pathname.endsWith(`/${maskId}`), { timeout: 20_000 })
+    await expect.poll(statusText).toBe('Draft')
+    expect(await page.locator('h1').textContent()).toContain('mask v2')
+
+    await page.getByTestId('scalar-fsHz-high').fill('30')
+    await page.getByTestId('scalar-fsHz-low').fill('20')
+    await page.getByTestId('mask-preview-run').click()
+    await expect.poll(() => page.getByTestId('preview-draft-yield').textContent().catch(() => ''), { timeout: 20_000 }).toContain('0.0 %')
+    const active = await page.getByTestId('preview-active-yield').textContent()
+    expect(active).toContain('Active mask v1')
+    expect(active).toContain('100.0 %')
+    const changed = page.getByTestId('preview-changed-row')
+    expect(await changed.count()).toBe(GOLDEN_COUNT + 1)
+    expect((await changed.first().locator('td').allTextContents()).map((t) => t.trim())).toEqual(['Pass', 'Fail', 'Fs'])
+    await page.waitForTimeout(500) // the smooth scroll to the answer
+    await shot('mask-preview-v2')
+  })
+
   it('renders each mask page on the server with its data (nothing to repair on hydration)', async () => {
     for (const path of [`/masks/${maskId}`, '/masks', `/masks/new?product=${product.code}`]) {
       const url = new URL(path, baseUrl).toString()
