@@ -1,12 +1,12 @@
 import type { Knex } from 'knex'
-import { maskLimitsSchema, type MaskLimits, type MaskStatus } from '../../shared/utils/mask.ts'
+import { maskLimitsSchema, type MaskLimits, type MaskLimitsInput, type MaskStatus } from '../../shared/utils/mask.ts'
 import type { MaskSummary } from '../../shared/types/api.ts'
 import { writeAudit } from './audit.ts'
 
 /** A change the mask's state does not allow (e.g. editing a released mask). */
 export class MaskStateError extends Error {
   constructor(
-    readonly code: 'mask_not_draft' | 'mask_not_released' | 'unknown_mask',
+    readonly code: 'mask_not_draft' | 'mask_not_released' | 'mask_older_than_active' | 'unknown_mask',
     message: string,
   ) {
     super(message)
@@ -35,12 +35,16 @@ export interface MaskRow {
   retired_at: Date | null
 }
 
-/** The released mask that judges a product's units now, if any. */
-export async function getActiveMask(db: Knex, productId: number): Promise<ActiveMask | undefined> {
-  const r = await db('products as p')
+/**
+ * The released mask that judges a product's units now, if any. With `lockProduct` (inside a
+ * transaction) the product row is share-locked, so a release cannot slip in before the caller commits.
+ */
+export async function getActiveMask(db: Knex, productId: number, opts: { lockProduct?: boolean } = {}): Promise<ActiveMask | undefined> {
+  const q = db('products as p')
     .join('masks as m', 'm.id', 'p.active_mask_id')
     .where({ 'p.id': productId, 'm.status': 'released' })
     .first('m.id', 'm.version', 'm.limits')
+  const r = await (opts.lockProduct ? q.forShare('p') : q)
   return r && { id: Number(r.id), version: r.version, limits: maskLimitsSchema.parse(r.limits) }
 }
 
@@ -103,7 +107,7 @@ export async function listGolden(db: Knex, maskId: number): Promise<GoldenRef[]>
 export interface NewMask {
   productId: number
   name: string
-  limits: MaskLimits
+  limits: MaskLimitsInput
   createdBy: number | null
   options?: Record<string, unknown>
   golden?: GoldenRef[]
@@ -121,7 +125,7 @@ export async function createMaskDraft(db: Knex, m: NewMask): Promise<number> {
         version: (max ?? 0) + 1,
         status: 'draft',
         name: m.name,
-        limits: JSON.stringify(m.limits),
+        limits: JSON.stringify(maskLimitsSchema.parse(m.limits)),
         options: JSON.stringify(m.options ?? {}),
         created_by: m.createdBy,
       })
@@ -134,15 +138,22 @@ export async function createMaskDraft(db: Knex, m: NewMask): Promise<number> {
 }
 
 /** Edits a draft. @throws MaskStateError `mask_not_draft` once released or retired. */
-export async function updateMaskDraft(db: Knex, id: number, patch: { name?: string; limits?: MaskLimits }): Promise<void> {
+export async function updateMaskDraft(db: Knex, id: number, patch: { name?: string; limits?: MaskLimitsInput }): Promise<void> {
   await db.transaction(async (trx) => {
     const mask = await trx('masks').where({ id }).forUpdate().first()
     if (!mask) throw new MaskStateError('unknown_mask', `No mask ${id}`)
     if (mask.status !== 'draft') throw new MaskStateError('mask_not_draft', `Mask v${mask.version} is ${mask.status}: it cannot change. Build a new version instead.`)
     await trx('masks')
       .where({ id })
-      .update({ ...(patch.name !== undefined ? { name: patch.name } : {}), ...(patch.limits ? { limits: JSON.stringify(patch.limits) } : {}) })
+      .update({ ...(patch.name !== undefined ? { name: patch.name } : {}), ...(patch.limits ? { limits: JSON.stringify(maskLimitsSchema.parse(patch.limits)) } : {}) })
   })
+}
+
+/** Locks the product row a mask belongs to. @throws MaskStateError `unknown_mask`. */
+async function lockProductOfMask(trx: Knex.Transaction, maskId: number) {
+  const product = await trx('products as p').join('masks as m', 'm.product_id', 'p.id').where('m.id', maskId).forUpdate('p').first('p.*')
+  if (!product) throw new MaskStateError('unknown_mask', `No mask ${maskId}`)
+  return product
 }
 
 export interface ReleaseOptions {
@@ -161,10 +172,16 @@ export interface ReleaseOptions {
  */
 export async function releaseMask(db: Knex, maskId: number, o: ReleaseOptions): Promise<{ version: number; judgedUnjudged: number }> {
   return db.transaction(async (trx) => {
+    // Product row first, then masks: the same order as retire, so the two cannot deadlock.
+    const product = await lockProductOfMask(trx, maskId)
     const mask = await trx('masks').where({ id: maskId }).forUpdate().first()
-    if (!mask) throw new MaskStateError('unknown_mask', `No mask ${maskId}`)
     if (mask.status !== 'draft') throw new MaskStateError('mask_not_draft', `Mask v${mask.version} is already ${mask.status}`)
-    const product = await trx('products').where({ id: mask.product_id }).forUpdate().first()
+    if (product.active_mask_id) {
+      const active = await trx('masks').where({ id: product.active_mask_id }).first('version')
+      if (active.version > mask.version) {
+        throw new MaskStateError('mask_older_than_active', `Draft v${mask.version} is older than the active v${active.version}: build a new version from it instead`)
+      }
+    }
     const at = o.at ?? new Date()
     if (product.active_mask_id) {
       await trx('masks').where({ id: product.active_mask_id }).update({ status: 'retired', retired_at: at, retired_by: o.by, retire_comment: `replaced by v${mask.version}` })
@@ -184,8 +201,8 @@ export async function releaseMask(db: Knex, maskId: number, o: ReleaseOptions): 
  */
 export async function retireMask(db: Knex, maskId: number, by: number | null, comment: string | null): Promise<{ version: number }> {
   return db.transaction(async (trx) => {
+    await lockProductOfMask(trx, maskId)
     const mask = await trx('masks').where({ id: maskId }).forUpdate().first()
-    if (!mask) throw new MaskStateError('unknown_mask', `No mask ${maskId}`)
     if (mask.status !== 'released') throw new MaskStateError('mask_not_released', `Only a released mask can be retired; v${mask.version} is ${mask.status}`)
     await trx('masks').where({ id: maskId }).update({ status: 'retired', retired_at: trx.fn.now(), retired_by: by, retire_comment: comment })
     await trx('products').where({ id: mask.product_id, active_mask_id: maskId }).update({ active_mask_id: null, updated_at: trx.fn.now() })

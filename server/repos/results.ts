@@ -6,9 +6,10 @@ export interface NewResult {
   recordingId: number
   unitId: number
   analysis: AnalysisResult
-  judgement: Judgement | null
-  maskId: number | null
 }
+
+/** Decides the verdict inside the saving transaction (so a mask released meanwhile cannot be missed). */
+export type DecideVerdict = (trx: Knex.Transaction) => Promise<{ maskId: number; judgement: Judgement } | null>
 
 const CURVE_DIGITS = 5
 
@@ -18,16 +19,18 @@ function compact(a: (number | null)[] | null): (number | null)[] | null {
 }
 
 /** Stores one analysed recording as a result and marks the recording done, in one transaction. Idempotent per recording. */
-export async function saveResult(db: Knex, r: NewResult): Promise<number> {
-  const { analysis: a, judgement: j } = r
+export async function saveResult(db: Knex, r: NewResult, decide: DecideVerdict): Promise<number> {
+  const { analysis: a } = r
   const p = a.parameters
   return db.transaction(async (trx) => {
+    const decision = await decide(trx)
+    const j = decision?.judgement ?? null
     const inserted = await trx('results')
       .insert({
         recording_id: r.recordingId,
         unit_id: r.unitId,
         kind: a.kind,
-        mask_id: j ? r.maskId : null,
+        mask_id: decision?.maskId ?? null,
         verdict: j?.verdict ?? null,
         checks: j ? JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured }) : null,
         judged_at: j ? trx.fn.now() : null,
@@ -81,12 +84,12 @@ export interface StoredResult {
   uploadedAt: Date
   parameters: AnalysisResult['parameters']
   flags: AnalysisResult['flags']
-  curves: { freqHz: number[]; splDb: (number | null)[] | null; impedanceOhm: (number | null)[] | null }
+  curves: { freqHz: number[]; splDb: (number | null)[] | null; impedanceOhm: (number | null)[] | null; thdPct: (number | null)[] | null }
 }
 
 const STORED_COLUMNS = [
   'res.id as result_id', 'res.recording_id', 'res.unit_id', 'u.serial', 'res.kind', 'res.verdict', 'r.uploaded_at',
-  'res.parameters', 'res.flags', 'res.curve_freq_hz', 'res.curve_spl_db', 'res.curve_impedance_ohm',
+  'res.parameters', 'res.flags', 'res.curve_freq_hz', 'res.curve_spl_db', 'res.curve_impedance_ohm', 'res.curve_thd_pct',
 ]
 
 interface StoredRow {
@@ -102,6 +105,7 @@ interface StoredRow {
   curve_freq_hz: number[]
   curve_spl_db: (number | null)[] | null
   curve_impedance_ohm: (number | null)[] | null
+  curve_thd_pct: (number | null)[] | null
 }
 
 function toStored(r: StoredRow): StoredResult {
@@ -115,7 +119,7 @@ function toStored(r: StoredRow): StoredResult {
     uploadedAt: r.uploaded_at,
     parameters: r.parameters,
     flags: r.flags,
-    curves: { freqHz: r.curve_freq_hz, splDb: r.curve_spl_db, impedanceOhm: r.curve_impedance_ohm },
+    curves: { freqHz: r.curve_freq_hz, splDb: r.curve_spl_db, impedanceOhm: r.curve_impedance_ohm, thdPct: r.curve_thd_pct },
   }
 }
 

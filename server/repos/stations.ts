@@ -80,36 +80,70 @@ export interface NewStation {
   createdBy: number | null
 }
 
-/** Creates a station with version 1 of its profile. Returns its id and its token (shown once). */
+/**
+ * Creates a station with version 1 of its profile. Returns its id and its token (shown once).
+ * @throws StationConflict for a name another station has.
+ */
 export async function createStation(db: Knex, s: NewStation): Promise<{ id: number; token: string }> {
   const t = newStationToken()
-  return db.transaction(async (trx) => {
-    const [row] = await trx('stations').insert({ name: s.name, line: s.line, token_hash: t.hash, token_hint: t.hint }).returning('id')
-    await trx('station_profiles').insert({ station_id: row.id, version: 1, profile: JSON.stringify(s.profile), created_by: s.createdBy })
-    return { id: Number(row.id), token: t.token }
-  })
+  return guardName(s.name, () =>
+    db.transaction(async (trx) => {
+      const [row] = await trx('stations').insert({ name: s.name, line: s.line, token_hash: t.hash, token_hint: t.hint }).returning('id')
+      await trx('station_profiles').insert({ station_id: row.id, version: 1, profile: JSON.stringify(s.profile), created_by: s.createdBy })
+      return { id: Number(row.id), token: t.token }
+    }),
+  )
+}
+
+/** Another station already has this name. */
+export class StationConflict extends Error {
+  readonly code = 'duplicate_station'
+}
+
+const isUniqueViolation = (err: unknown) => typeof err === 'object' && err !== null && (err as { code?: string }).code === '23505'
+
+async function guardName<T>(name: string | undefined, work: () => Promise<T>): Promise<T> {
+  try {
+    return await work()
+  } catch (err) {
+    if (isUniqueViolation(err)) throw new StationConflict(`A station named ${name} exists`)
+    throw err
+  }
+}
+
+/** A partial profile edit applied to the current profile (the sweep merged field by field), so unnamed fields keep their calibration. */
+export function mergeProfile(current: StationProfile, patch: Record<string, unknown>): Record<string, unknown> {
+  const sweep = patch.sweep && typeof patch.sweep === 'object' ? { ...current.sweep, ...(patch.sweep as object) } : current.sweep
+  return { ...current, ...patch, sweep }
 }
 
 export interface StationPatch {
   name?: string
   line?: string
   active?: boolean
-  profile?: StationProfile
+  /** The new profile computed from the current one (called inside the transaction). */
+  profile?: (current: StationProfile) => StationProfile
 }
 
-/** Edits a station; a changed profile becomes a new version (results keep the version they used). */
+/**
+ * Edits a station; a changed profile becomes a new version (results keep the version they used).
+ * @throws StationConflict for a name another station has.
+ */
 export async function updateStation(db: Knex, id: number, patch: StationPatch, by: number | null): Promise<StationSummary | undefined> {
-  return db.transaction(async (trx) => {
-    const station = await trx('stations').where({ id }).forUpdate().first()
-    if (!station) return undefined
-    const fields = Object.fromEntries(Object.entries({ name: patch.name, line: patch.line, active: patch.active }).filter(([, v]) => v !== undefined))
-    if (Object.keys(fields).length) await trx('stations').where({ id }).update({ ...fields, updated_at: trx.fn.now() })
-    if (patch.profile) {
-      const { max } = (await trx('station_profiles').where({ station_id: id }).max<{ max: number }>('version as max').first())!
-      await trx('station_profiles').insert({ station_id: id, version: max + 1, profile: JSON.stringify(patch.profile), created_by: by })
-    }
-    return getStation(trx, id)
-  })
+  return guardName(patch.name, () =>
+    db.transaction(async (trx) => {
+      const station = await trx('stations').where({ id }).forUpdate().first()
+      if (!station) return undefined
+      const fields = Object.fromEntries(Object.entries({ name: patch.name, line: patch.line, active: patch.active }).filter(([, v]) => v !== undefined))
+      if (Object.keys(fields).length) await trx('stations').where({ id }).update({ ...fields, updated_at: trx.fn.now() })
+      if (patch.profile) {
+        const current = (await getStation(trx, id))!
+        const { max } = (await trx('station_profiles').where({ station_id: id }).max<{ max: number }>('version as max').first())!
+        await trx('station_profiles').insert({ station_id: id, version: max + 1, profile: JSON.stringify(patch.profile(current.profile)), created_by: by })
+      }
+      return getStation(trx, id)
+    }),
+  )
 }
 
 /** Replaces the station's token; the old one stops working at once. */

@@ -26,7 +26,7 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
     const ambientC = rec.ambient_c ?? undefined
     if (rec.kind === 'sweep') {
       const profile = rec.station_profile_id ? await getProfileVersion(db, Number(rec.station_profile_id)) : undefined
-      if (!profile) throw new AnalysisInputError('channel_mismatch', 'The recording has no station profile to read it with')
+      if (!profile) throw new AnalysisInputError('invalid_profile', 'The recording has no station profile to read it with')
       analysis = analyzeRecording(bytes, profile, { ambientC, sensitivityBandHz: product.sensitivityBandHz })
     } else {
       analysis = analyzeImpedanceTable(bytes.toString('utf8'), { ambientC })
@@ -38,8 +38,9 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
     }
     throw err
   }
-  const mask = await getActiveMask(db, product.id)
-  const judgement = mask ? judge(analysis, mask.limits, product.ratedImpedanceOhm) : null
-  await saveResult(db, { recordingId, unitId: Number(rec.unit_id), analysis, judgement, maskId: mask?.id ?? null })
+  await saveResult(db, { recordingId, unitId: Number(rec.unit_id), analysis }, async (trx) => {
+    const mask = await getActiveMask(trx, product.id, { lockProduct: true })
+    return mask ? { maskId: mask.id, judgement: judge(analysis, mask.limits, product.ratedImpedanceOhm) } : null
+  })
   return 'done'
 }

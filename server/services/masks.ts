@@ -1,7 +1,7 @@
 import type { Knex } from 'knex'
 import type { MaskCandidate, MaskPreview, MaskView } from '../../shared/types/api.ts'
 import { reDisagreementPct } from '../../shared/utils/coil.ts'
-import { SCALAR_LIMIT_NAMES, type MaskCreateInput, type MaskLimits } from '../../shared/utils/mask.ts'
+import { SCALAR_LIMIT_NAMES, figureValue, type MaskCreateInput, type MaskLimits } from '../../shared/utils/mask.ts'
 import { createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, type ActiveMask } from '../repos/masks.ts'
 import { getProductByCode, getProductById } from '../repos/products.ts'
 import { listLatestPerUnit, listProductResults, setFirstVerdict, type StoredResult } from '../repos/results.ts'
@@ -54,8 +54,8 @@ export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, use
     if (elsewhere.length) throw new GoldenError('golden_wrong_product', `Not ${product.code} units: ${elsewhere.join(', ')}`)
     throw new GoldenError('golden_not_measured', `No measured result for: ${missing.join(', ')}`)
   }
-  const { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve } = input
-  const options = { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve }
+  const { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve, thdBandHz } = input
+  const options = { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve, thdBandHz }
   const side = (s?: { k?: number; floorDb?: number }) => s && { k: s.k, floor: s.floorDb }
   const limits = proposeLimits(golden, {
     k,
@@ -65,6 +65,7 @@ export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, use
     sweepBandHz: await sweepBandOf(db, golden),
     response: { upper: side(upper), lower: side(lower), regions: regions?.map((r) => ({ fromHz: r.fromHz, toHz: r.toHz, upper: r.upperDb, lower: r.lowerDb })) },
     impedance: impedanceCurve ?? false,
+    thdBandHz,
   })
   return createMaskDraft(db, {
     productId: product.id,
@@ -109,7 +110,7 @@ export async function getMaskView(db: Knex, id: number): Promise<MaskView | unde
   const golden = refs.length ? await listProductResults(db, m.productId, { recordingIds: refs.map((r) => r.recordingId) }) : []
   const figures: MaskView['golden']['figures'] = {}
   for (const name of SCALAR_LIMIT_NAMES) {
-    const s = summarize(golden.map((g) => (name === 're20Ohm' ? (g.parameters.re20Ohm ?? g.parameters.reOhm) : g.parameters[name])))
+    const s = summarize(golden.map((g) => figureValue(g, name, m.limits.thdBandHz)))
     if (s) figures[name] = { n: s.n, mean: s.mean, sd: s.sd }
   }
   const freqHz = golden.find((g) => g.curves.freqHz?.length)?.curves.freqHz ?? []

@@ -5,6 +5,7 @@ import { UnitInputError } from '../repos/units'
 import { UploadRefused } from '../services/ingest'
 import { MaskStateError } from '../repos/masks'
 import { ProductConflict } from '../repos/products'
+import { StationConflict } from '../repos/stations'
 import { GoldenError } from '../services/masks'
 import { ProposeError } from '../verdict/propose'
 
@@ -60,6 +61,7 @@ export function toHttpError(err: unknown): unknown {
   if (err instanceof GoldenError) return httpError(err.code === 'unknown_product' ? 404 : 422, err.code, err.message)
   if (err instanceof ProposeError) return httpError(422, err.code, err.message)
   if (err instanceof ProductConflict) return httpError(409, err.code, err.message, { field: err.field })
+  if (err instanceof StationConflict) return httpError(409, err.code, err.message)
   return err
 }
 

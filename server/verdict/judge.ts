@@ -1,6 +1,6 @@
 import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analysis/index.ts'
 import { RATED_IMPEDANCE_MIN_FRACTION } from '../analysis/index.ts'
-import { CHECK_LABELS, SCALAR_LIMIT_NAMES, limitAtHz, type MaskLimits } from '../../shared/utils/mask.ts'
+import { CHECK_LABELS, SCALAR_LIMIT_NAMES, figureValue, limitAtHz, type MaskLimits } from '../../shared/utils/mask.ts'
 import type { CheckView } from '../../shared/types/api.ts'
 
 /** One limit applied to one figure or curve (glossary: check). */
@@ -16,13 +16,7 @@ export interface Judgement {
 export interface Judgeable {
   parameters: Pick<AnalysisParameters, 'reOhm' | 're20Ohm' | 'fsHz' | 'qts' | 'sensitivityDb' | 'thdMaxPct' | 'rubBuzzDb' | 'zminOhm' | 'effectiveImpedanceOhm'>
   flags: Pick<AnalysisFlags, 'polarity' | 'openCoil' | 'shortedCoil'>
-  curves: Pick<AnalysisCurves, 'freqHz' | 'splDb' | 'impedanceOhm'>
-}
-
-function scalarValue(r: Judgeable, name: (typeof SCALAR_LIMIT_NAMES)[number]): number | null {
-  // Without an ambient temperature Re cannot be referred to 20 °C: judge the raw value.
-  if (name === 're20Ohm') return r.parameters.re20Ohm ?? r.parameters.reOhm
-  return r.parameters[name]
+  curves: Pick<AnalysisCurves, 'freqHz' | 'splDb' | 'impedanceOhm'> & Partial<Pick<AnalysisCurves, 'thdPct'>>
 }
 
 function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>): Check | null {
@@ -75,7 +69,7 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
   for (const name of SCALAR_LIMIT_NAMES) {
     const lim = limits.scalars[name]
     if (!lim) continue
-    const value = scalarValue(r, name)
+    const value = figureValue(r, name, limits.thdBandHz)
     if (value === null || !Number.isFinite(value)) {
       unmeasured.push(name)
       continue

@@ -12,7 +12,7 @@
  */
 import { DEFAULT_SWEEP, OCTAVE_RATIO_BASE10, valueAtHz } from '../analysis/index.ts'
 import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analysis/index.ts'
-import { SCALAR_LIMIT_NAMES, type MaskLimits, type ScalarLimitName } from '../../shared/utils/mask.ts'
+import { SCALAR_LIMIT_NAMES, figureValue, type MaskLimits, type ScalarLimitName } from '../../shared/utils/mask.ts'
 
 /** Fewer golden units than this gives a standard deviation too uncertain to build limits on (issue 5). */
 export const MIN_GOLDEN_UNITS = 5
@@ -47,7 +47,7 @@ export const UPPER_ONLY: ReadonlySet<ScalarLimitName> = new Set(['thdMaxPct', 'r
 /** What proposeLimits reads from one golden unit's result (an AnalysisResult fits, as does a stored result). */
 export interface GoldenResult {
   parameters: Partial<Pick<AnalysisParameters, 'reOhm' | ScalarLimitName>>
-  curves: Pick<AnalysisCurves, 'freqHz'> & Partial<Pick<AnalysisCurves, 'splDb' | 'impedanceOhm'>>
+  curves: Pick<AnalysisCurves, 'freqHz'> & Partial<Pick<AnalysisCurves, 'splDb' | 'impedanceOhm' | 'thdPct'>>
   flags?: Partial<Pick<AnalysisFlags, 'polarity'>>
 }
 
@@ -89,6 +89,8 @@ export interface ProposeOptions {
   response?: Omit<CurveProposalOptions, 'fromHz' | 'toHz'> | false
   /** Propose an impedance-curve band too (off by default); floors are fractions of the mean |Z|. */
   impedance?: (CurveProposalOptions & { floorFraction?: number }) | boolean
+  /** Band for the THD maximum (default: the whole measured band). */
+  thdBandHz?: [number, number]
   /** Overrides of the scalar floors; a name mapped to null leaves that figure without a limit. */
   scalarFloors?: Partial<Record<ScalarLimitName, number | null>>
 }
@@ -153,12 +155,6 @@ function round(x: number, digits = 5): number {
 
 function checkPositive(name: string, v: number | undefined) {
   if (v !== undefined && !(Number.isFinite(v) && v >= 0)) throw new ProposeError('invalid_proposal_options', `${name} must be a finite number ≥ 0`)
-}
-
-function scalarValue(g: GoldenResult, name: ScalarLimitName): number | null | undefined {
-  // The same reading judge() applies: without an ambient temperature, Re is the raw value.
-  if (name === 're20Ohm') return g.parameters.re20Ohm ?? g.parameters.reOhm
-  return g.parameters[name]
 }
 
 /** A curve's value at grid point i (frequency f): exact when the grids agree there, else interpolated. */
@@ -239,7 +235,7 @@ export function proposeLimits(golden: readonly GoldenResult[], opts: ProposeOpti
     const floor = opts.scalarFloors?.[name] === undefined ? DEFAULT_SCALAR_FLOORS[name] : opts.scalarFloors[name]
     if (floor === null) continue
     checkPositive(`scalarFloors.${name}`, floor)
-    const s = summarize(golden.map((g) => scalarValue(g, name)))
+    const s = summarize(golden.map((g) => figureValue(g, name, opts.thdBandHz)))
     if (!s || s.n < MIN_GOLDEN_UNITS) continue
     const w = halfWidth(s.sd, k, floor)
     scalars[name] = UPPER_ONLY.has(name) ? { low: null, high: round(s.mean + w) } : { low: round(s.mean - w), high: round(s.mean + w) }
@@ -267,7 +263,7 @@ export function proposeLimits(golden: readonly GoldenResult[], opts: ProposeOpti
     if (band) curves.impedanceOhm = band
   }
 
-  return { scalars, polarityNormal: true, ratedImpedanceRule: true, curves }
+  return { scalars, polarityNormal: true, ratedImpedanceRule: true, curves, thdBandHz: opts.thdBandHz ?? null }
 }
 
 function bandSpec(

@@ -183,6 +183,7 @@ export interface MaskView extends MaskSummary {
     polarityNormal: boolean
     ratedImpedanceRule: boolean
     curves: { splDb?: CurveLimit; impedanceOhm?: CurveLimit }
+    thdBandHz: [number, number] | null
   }
   /** The response limit curve (same as limits.curves.splDb), null when the mask has none. */
   curve: CurveLimit | null

@@ -5,30 +5,68 @@ export const SCALAR_LIMIT_NAMES = ['re20Ohm', 'fsHz', 'qts', 'sensitivityDb', 't
 export type ScalarLimitName = (typeof SCALAR_LIMIT_NAMES)[number]
 
 const bound = z.number().finite().nullable()
+const thdBandSchema = z
+  .tuple([z.number().positive(), z.number().positive()])
+  .refine(([lo, hi]) => lo < hi, { message: 'the THD band must go from low to high' })
+
 export const scalarLimitSchema = z.object({ low: bound, high: bound }).refine((l) => l.low === null || l.high === null || l.low <= l.high, {
   message: 'low must not exceed high',
 })
 
+/** Most breakpoints a limit curve may have (the standard grid has about 240 from 10 Hz to 20 kHz). */
+export const MAX_BREAKPOINTS = 2000
+
 export const curveLimitSchema = z
   .object({
-    freqHz: z.array(z.number().positive()).min(2),
-    low: z.array(z.number().finite().nullable()),
-    high: z.array(z.number().finite().nullable()),
+    freqHz: z.array(z.number().positive()).min(2).max(MAX_BREAKPOINTS),
+    low: z.array(z.number().finite().nullable()).max(MAX_BREAKPOINTS),
+    high: z.array(z.number().finite().nullable()).max(MAX_BREAKPOINTS),
   })
   .refine((c) => c.low.length === c.freqHz.length && c.high.length === c.freqHz.length, { message: 'one low and one high per frequency' })
+  .refine((c) => c.freqHz.every((f, i) => i === 0 || f > c.freqHz[i - 1]!), { message: 'breakpoint frequencies must rise', path: ['freqHz'] })
+  .refine((c) => c.low.every((l, i) => l === null || c.high[i] == null || l <= c.high[i]!), { message: 'a low limit above its high limit', path: ['low'] })
 
 /** The limits a mask holds; stored as JSON in masks.limits. */
 export const maskLimitsSchema = z.object({
   scalars: z.partialRecord(z.enum(SCALAR_LIMIT_NAMES), scalarLimitSchema).default({}),
   /** Polarity must read normal (a wrong lead connection inverts it). */
   polarityNormal: z.boolean().default(true),
-  /** IEC 60268-5: the impedance minimum above Fs must not fall below 80 % of the rated impedance. */
-  ratedImpedanceRule: z.boolean().default(true),
+  /** IEC 60268-5: the impedance minimum above Fs must not fall below 80 % of the rated impedance. A fixed check: always on. */
+  ratedImpedanceRule: z.literal(true, { error: 'the rated-impedance rule (IEC 60268-5) is a fixed check' }).default(true),
   curves: z
     .object({ splDb: curveLimitSchema.optional(), impedanceOhm: curveLimitSchema.optional() })
     .default({}),
+  /** The band the THD maximum is read in; null: the whole measured band. */
+  thdBandHz: thdBandSchema.nullable().default(null),
 })
 export type MaskLimits = z.infer<typeof maskLimitsSchema>
+/** Limits as a caller may give them (defaults filled in by the schema). */
+export type MaskLimitsInput = z.input<typeof maskLimitsSchema>
+
+/** What a figure reads for a result: the numbers a mask limits, from its parameters (and its THD curve for a THD band). */
+export interface FigureSource {
+  parameters: Partial<Record<ScalarLimitName | 'reOhm', number | null>>
+  curves?: { freqHz: readonly number[]; thdPct?: readonly (number | null)[] | null }
+}
+
+/**
+ * The value of a limited figure. Without an ambient temperature Re cannot be referred to 20 °C, so
+ * the raw Re stands in; with a THD band, the THD maximum is taken inside it from the THD curve.
+ * The judge and the mask proposal read figures through this one function.
+ */
+export function figureValue(r: FigureSource, name: ScalarLimitName, thdBandHz?: readonly [number, number] | null): number | null {
+  if (name === 're20Ohm') return r.parameters.re20Ohm ?? r.parameters.reOhm ?? null
+  const thd = r.curves?.thdPct
+  if (name === 'thdMaxPct' && thdBandHz && thd && r.curves) {
+    let max: number | null = null
+    r.curves.freqHz.forEach((f, i) => {
+      const v = thd[i]
+      if (v != null && f >= thdBandHz[0] && f <= thdBandHz[1] && (max === null || v > max)) max = v
+    })
+    return max
+  }
+  return r.parameters[name] ?? null
+}
 
 /** Labels and units of the checks, as the bench shows them. */
 export const CHECK_LABELS: Record<string, { label: string; unit: string; plain: string }> = {
@@ -90,6 +128,8 @@ export const maskCreateSchema = z
     regions: z.array(marginRegionSchema).max(20).optional(),
     /** Propose an impedance-curve band too (off by default). */
     impedanceCurve: z.boolean().optional(),
+    /** Band for the THD maximum, Hz (default: the whole measured band). */
+    thdBandHz: thdBandSchema.optional(),
   })
   .refine((m) => new Set(m.goldenSerials).size === m.goldenSerials.length, { message: 'each golden unit once', path: ['goldenSerials'] })
   .refine((m) => m.fromHz === undefined || m.toHz === undefined || m.fromHz < m.toHz, { message: 'fromHz must be below toHz', path: ['toHz'] })

@@ -35,7 +35,7 @@ beforeAll(async () => {
   await releaseTestMask(judged.id, {
     scalars: { fsHz: { low: 1, high: 1000 } },
     polarityNormal: true,
-    ratedImpedanceRule: false,
+    ratedImpedanceRule: true,
     curves: { splDb: { freqHz: [20, 1000, 20000], low: [50, 60, 40], high: [105, 110, 105] } },
   })
 

@@ -86,6 +86,7 @@ describe('the voice-coil cross-check', () => {
 
 describe('a mask from golden units through its life', () => {
   let v1: MaskView
+  let olderDraftId = 0
   let unjudged: RecordingView
 
   it('lists the measured units as candidates', async () => {
@@ -124,8 +125,11 @@ describe('a mask from golden units through its life', () => {
   it('takes separate upper and lower sides and marked regions for the response band', async () => {
     const base = { product: product.code, goldenSerials: golden.map((g) => g.serial), k: 3, floorDb: 1.5 }
     const plain = (await api<MaskView>('POST', '/api/masks', base)).body
-    const shaped = await api<MaskView>('POST', '/api/masks', { ...base, upper: { floorDb: 4 }, regions: [{ fromHz: 2000, toHz: 5000, lowerDb: 2 }], impedanceCurve: true })
+    const shaped = await api<MaskView>('POST', '/api/masks', { ...base, upper: { floorDb: 4 }, regions: [{ fromHz: 2000, toHz: 5000, lowerDb: 2 }], impedanceCurve: true, thdBandHz: [300, 3000] })
     expect(shaped.status).toBe(201)
+    expect(shaped.body.limits.thdBandHz).toEqual([300, 3000])
+    expect(plain.limits.thdBandHz).toBeNull()
+    olderDraftId = plain.id
     const at = (m: MaskView, f: number) => m.curve!.freqHz.findIndex((x) => x >= f)
     const i1k = at(plain, 1000)
     const i3k = at(plain, 3000)
@@ -207,10 +211,22 @@ describe('a mask from golden units through its life', () => {
     expect(unit.recordings[0]).toMatchObject({ verdict: 'pass', maskVersion: 1 })
     expect(unit.currentMask).toEqual({ version: v2, results: [{ recordingId: lowest.id, verdict: 'fail', failedChecks: ['fsHz'] }] })
 
+    // A draft older than the active version cannot replace it.
+    const older = await api('POST', `/api/masks/${olderDraftId}/release`, { comment: 'the older proposal after all' })
+    expect(older.status).toBe(409)
+    expect(older.body.data?.code).toBe('mask_older_than_active')
+    // Only a released mask can be retired.
+    const retireDraft = await api('POST', `/api/masks/${olderDraftId}/retire`, {})
+    expect(retireDraft.status).toBe(409)
+    expect(retireDraft.body.data?.code).toBe('mask_not_released')
+
     // Retiring leaves the product without an active mask: new results wait unjudged.
     const retired = await api('POST', `/api/masks/${res.body.id}/retire`, { comment: 'line stopped' })
     expect(retired.status).toBe(200)
     expect(await testUnit(422)).toMatchObject({ status: 'done', verdict: null })
     expect((await api('POST', `/api/masks/${res.body.id}/retire`, {})).status).toBe(409)
+    const patchRetired = await api('PATCH', `/api/masks/${res.body.id}`, { name: 'x' })
+    expect(patchRetired.status).toBe(409)
+    expect(patchRetired.body.data?.code).toBe('mask_not_draft')
   })
 })

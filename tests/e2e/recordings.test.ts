@@ -218,6 +218,12 @@ describe('station tokens', () => {
   })
 })
 
+async function makeStationNamed(): Promise<{ name: string }> {
+  const name = unique('Named station')
+  await makeStation(DEFAULT_PROFILE, name)
+  return { name }
+}
+
 describe('stations API', () => {
   it('creates a station (token shown once), versions its profile on edit, and is closed to technicians', async () => {
     const engineer = { cookie: (await signIn(host, demoEmail('engineer'), DEMO_PASSWORD)).cookie }
@@ -231,8 +237,14 @@ describe('stations API', () => {
 
     const patched = await fetch(new URL(`/api/stations/${id}`, host), { method: 'PATCH', headers: { ...engineer, 'content-type': 'application/json' }, body: JSON.stringify({ profile: { micDistanceM: 0.5 } }) })
     expect(patched.status).toBe(200)
-    expect(await patched.json()).toMatchObject({ profileVersion: 2, profile: { micDistanceM: 0.5 } })
-    expect(await testDb()('station_profiles').where({ station_id: id }).count<{ c: string }[]>({ c: '*' })).toEqual([{ c: '2' }])
+    // A partial edit keeps every field it does not name (here the full-scale volts and the sweep).
+    expect(await patched.json()).toMatchObject({ profileVersion: 2, profile: { ...DEFAULT_PROFILE, micDistanceM: 0.5 } })
+    const edited = await fetch(new URL(`/api/stations/${id}`, host), { method: 'PATCH', headers: { ...engineer, 'content-type': 'application/json' }, body: JSON.stringify({ profile: { fullScaleV: [2, 40, 4], sweep: { levelVrms: 1 } } }) })
+    expect(await edited.json()).toMatchObject({ profileVersion: 3, profile: { micDistanceM: 0.5, fullScaleV: [2, 40, 4], sweep: { ...DEFAULT_PROFILE.sweep, levelVrms: 1 } } })
+    const taken = await fetch(new URL(`/api/stations/${id}`, host), { method: 'PATCH', headers: { ...engineer, 'content-type': 'application/json' }, body: JSON.stringify({ name: (await makeStationNamed()).name }) })
+    expect(taken.status).toBe(409)
+    expect(((await taken.json()) as { data: { code: string } }).data.code).toBe('duplicate_station')
+    expect(await testDb()('station_profiles').where({ station_id: id }).count<{ c: string }[]>({ c: '*' })).toEqual([{ c: '3' }])
 
     const bad = await fetch(new URL(`/api/stations/${id}`, host), { method: 'PATCH', headers: { ...engineer, 'content-type': 'application/json' }, body: JSON.stringify({ profile: { channels: ['mic', 'mic'] } }) })
     expect(bad.status).toBe(400)

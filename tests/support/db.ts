@@ -4,7 +4,7 @@ import { DEFAULT_PROFILE, type StationProfile } from '../../server/analysis/inde
 import { createProduct, getProductByCode } from '../../server/repos/products'
 import { createStation } from '../../server/repos/stations'
 import { createMaskDraft, releaseMask } from '../../server/repos/masks'
-import type { MaskLimits } from '../../shared/utils/mask'
+import type { MaskLimitsInput } from '../../shared/utils/mask'
 
 let db: Knex | undefined
 
@@ -38,7 +38,7 @@ export async function makeStation(profile: StationProfile = DEFAULT_PROFILE, nam
 }
 
 /** Releases a mask for a product (what an engineer does through the mask pages). */
-export async function releaseTestMask(productId: number, limits: MaskLimits): Promise<number> {
+export async function releaseTestMask(productId: number, limits: MaskLimitsInput): Promise<number> {
   const id = await createMaskDraft(testDb(), { productId, name: 'test mask', limits, createdBy: null })
   await releaseMask(testDb(), id, { by: null, comment: 'released by a test' })
   return id

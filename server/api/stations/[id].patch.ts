@@ -1,5 +1,5 @@
-import { updateStation } from '../../repos/stations'
-import { stationProfileSchema } from '../../analysis/index'
+import { mergeProfile, updateStation } from '../../repos/stations'
+import { stationProfileSchema, type StationProfile } from '../../analysis/index'
 import { idParamSchema, stationPatchSchema } from '../../../shared/utils/bench'
 import type { StationView } from '../../../shared/types/api'
 
@@ -7,8 +7,12 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const patch = await readValidatedBody(event, zodValidator(stationPatchSchema))
-  const profile = patch.profile ? parseInput(stationProfileSchema, patch.profile, 'profile') : undefined
-  const station = await updateStation(useDb(), id, { ...patch, profile }, user.id)
+  const edit = patch.profile
+  // A partial profile edits the current one: fields it does not name keep their calibration.
+  const profile = edit ? (current: StationProfile) => parseInput(stationProfileSchema, mergeProfile(current, edit), 'profile') : undefined
+  const station = await updateStation(useDb(), id, { ...patch, profile }, user.id).catch((err: unknown) => {
+    throw toHttpError(err)
+  })
   if (!station) throw httpError(404, 'not_found', `No station ${id}`)
   return station satisfies StationView
 })

@@ -6,9 +6,9 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
   const body = await readValidatedBody(event, zodValidator(stationCreateSchema))
   const profile = parseInput(stationProfileSchema, body.profile, 'profile')
-  const db = useDb()
-  if (await db('stations').where({ name: body.name }).first()) throw httpError(409, 'duplicate_station', `A station named ${body.name} exists`)
-  const created = await createStation(db, { name: body.name, line: body.line, profile, createdBy: user.id })
+  const created = await createStation(useDb(), { name: body.name, line: body.line, profile, createdBy: user.id }).catch((err: unknown) => {
+    throw toHttpError(err)
+  })
   setResponseStatus(event, 201)
   // The token is shown this once; only its hash is kept.
   return created
