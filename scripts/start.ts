@@ -42,24 +42,39 @@ async function main() {
     DATABASE_URL: cfg.databaseUrl,
     CONETRAIL_DATA_DIR: cfg.dataDir,
     NODE_ENV: 'production',
+    // Cookies ignore ports: a name per port lets two instances on one host keep their own sessions.
+    NUXT_SESSION_NAME: process.env.NUXT_SESSION_NAME ?? `conetrail-session-${cfg.port}`,
   }
-  const children: ChildProcess[] = [
-    spawn(process.execPath, [resolve(root, '.output/server/index.mjs')], { stdio: 'inherit', env }),
-    ...WORKERS.map((w) => spawn(process.execPath, ['--import', 'tsx', resolve(root, w)], { stdio: 'inherit', env })),
-  ]
+  const server = spawn(process.execPath, [resolve(root, '.output/server/index.mjs')], { stdio: 'inherit', env })
+  const workers = new Map<string, ChildProcess>()
+  let stopping = false
+  // A worker that dies (e.g. out of memory on one recording) is restarted with a growing pause;
+  // the queue retries its job. The web server keeps serving meanwhile.
+  const startWorker = (entry: string, restarts = 0) => {
+    const w = spawn(process.execPath, ['--import', 'tsx', resolve(root, entry)], { stdio: 'inherit', env })
+    workers.set(entry, w)
+    const started = Date.now()
+    w.on('exit', (code, signal) => {
+      if (stopping) return
+      const next = Date.now() - started > 60_000 ? 0 : restarts + 1
+      const pauseMs = Math.min(30_000, 1000 * 2 ** next)
+      log(`worker ${entry} ended (${signal ?? `exit ${code}`}); restarting in ${pauseMs / 1000} s`)
+      setTimeout(() => !stopping && startWorker(entry, next), pauseMs)
+    })
+  }
+  WORKERS.forEach((w) => startWorker(w))
   log(`Conetrail on http://${cfg.host}:${cfg.port} (Ctrl+C stops it)`)
 
-  let stopping = false
   const stop = (code: number) => {
     if (stopping) return
     stopping = true
-    for (const c of children) c.kill('SIGTERM')
+    for (const c of [server, ...workers.values()]) c.kill('SIGTERM')
     if (!cfg.externalDatabase) stopCluster({ dataDir: cfg.dataDir })
     process.exit(code)
   }
   process.on('SIGINT', () => stop(0))
   process.on('SIGTERM', () => stop(0))
-  for (const c of children) c.on('exit', (code) => stop(code ?? 1))
+  server.on('exit', (code) => stop(code ?? 1))
 }
 
 main().catch((err: unknown) => {

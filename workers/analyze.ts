@@ -11,7 +11,7 @@ import type PgBoss from 'pg-boss'
 import { knexConfig } from '../knexfile'
 import { loadConfig } from '../server/utils/config'
 import { ANALYSE_QUEUE, createBoss, ensureQueue, type AnalyseJob } from '../server/queue/index'
-import { markFinishedWithError } from '../server/repos/recordings'
+import { failOrphanedRecordings, markFinishedWithError } from '../server/repos/recordings'
 import { processRecording } from '../server/services/analyse'
 import { directoryStorage } from '../server/storage/recordings'
 
@@ -60,7 +60,21 @@ async function main() {
       for (const job of jobs) await handle(job)
     })
   }
+  await sweepOrphans()
+  setInterval(() => void sweepOrphans(), ORPHAN_SWEEP_MS).unref()
   log(`waiting for recordings (${concurrency} at a time)`)
+}
+
+/** How often a worker looks for recordings whose job the queue gave up on. */
+const ORPHAN_SWEEP_MS = 60_000
+
+async function sweepOrphans() {
+  try {
+    const n = await failOrphanedRecordings(db, ANALYSE_QUEUE)
+    if (n) log(`${n} recording(s) whose analysis stopped for good marked failed`)
+  } catch (err) {
+    log(`orphan sweep: ${err instanceof Error ? err.message : String(err)}`)
+  }
 }
 
 let stopping = false

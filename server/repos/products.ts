@@ -2,6 +2,7 @@ import type { ProductView } from '../../shared/types/api.ts'
 import type { ProductListItem } from '../../shared/utils/product.ts'
 import { coilSchema, expectedRe20Ohm, DEFAULT_RE_WARN_PCT, type Coil } from '../../shared/utils/coil.ts'
 import type { Knex } from 'knex'
+import { isUniqueViolation } from './pg-errors.ts'
 
 export interface ProductRow {
   id: string
@@ -89,7 +90,6 @@ export interface NewProduct {
   reWarnPct?: number
 }
 
-const isUniqueViolation = (err: unknown) => typeof err === 'object' && err !== null && (err as { code?: string }).code === '23505'
 
 /**
  * Adds a product and returns its id.

@@ -1,6 +1,6 @@
 import type { Knex } from 'knex'
 import type { RecordingStatus } from '../../shared/utils/bench.ts'
-import type { RecordingCurves, RecordingSummary, RecordingView } from '../../shared/types/api.ts'
+import type { CurveLimit, RecordingCurves, RecordingSummary, RecordingView } from '../../shared/types/api.ts'
 
 export interface RecordingRow {
   id: string
@@ -64,13 +64,44 @@ export async function getRecording(db: Knex, id: number): Promise<RecordingRow |
   return db<RecordingRow>('recordings').where({ id: String(id) }).first()
 }
 
-/** Claims a recording for analysis: counts the attempt. Returns false when it is already finished. */
-export async function markAnalysing(db: Knex, id: number): Promise<boolean> {
+/** The same bytes already uploaded for another unit (a station sending a stale file for a new serial). */
+export async function findRecordingOfOtherUnit(db: Knex, unitId: number, sha256: string): Promise<{ serial: string } | undefined> {
+  return db('recordings as r').join('units as u', 'u.id', 'r.unit_id').where('r.sha256', sha256).whereNot('r.unit_id', unitId).first('u.serial')
+}
+
+/**
+ * Claims a recording for analysis and counts the attempt. Returns false when it is already
+ * finished, or when its attempts are used up (it is then marked failed).
+ */
+export async function markAnalysing(db: Knex, id: number, maxAttempts: number): Promise<boolean> {
   const n = await db('recordings')
     .where({ id })
     .whereIn('status', ['queued', 'analysing', 'failed'])
+    .where('attempts', '<', maxAttempts)
     .update({ status: 'analysing', attempts: db.raw('attempts + 1') })
-  return n > 0
+  if (n > 0) return true
+  await db('recordings')
+    .where({ id })
+    .whereIn('status', ['queued', 'analysing'])
+    .update({ status: 'failed', error_code: 'analysis_failed', error_message: `Analysis stopped ${maxAttempts} times (the worker ended during it); not tried again`, finished_at: db.fn.now() })
+  return false
+}
+
+/**
+ * Marks failed the recordings still waiting whose job is gone (a worker died during the last
+ * retry, so the queue gave up without telling anyone). Returns how many it marked.
+ */
+export async function failOrphanedRecordings(db: Knex, queue: string): Promise<number> {
+  return db('recordings as r')
+    .whereIn('r.status', ['queued', 'analysing'])
+    .where('r.uploaded_at', '<', db.raw("now() - interval '1 minute'"))
+    .whereNotExists(
+      db('pgboss.job as j')
+        .where('j.name', queue)
+        .whereIn('j.state', ['created', 'retry', 'active'])
+        .whereRaw("(j.data->>'recordingId')::bigint = r.id"),
+    )
+    .update({ status: 'failed', error_code: 'analysis_failed', error_message: 'The analysis stopped and its retries are used up', finished_at: db.fn.now() })
 }
 
 export async function markFinishedWithError(db: Knex, id: number, status: 'rejected' | 'failed', code: string, message: string): Promise<void> {
@@ -135,12 +166,23 @@ function toSummary(r: SummaryRow): RecordingSummary {
   }
 }
 
-/** One recording with its result, as GET /api/recordings/:id answers. */
-export async function getRecordingView(db: Knex, id: number, opts: { curves?: boolean } = {}): Promise<RecordingView | undefined> {
-  const cols = [...SUMMARY_COLUMNS, 'res.parameters', 'res.flags', 'res.engine_version', 'res.timings_ms', 'res.classical']
-  if (opts.curves) cols.push('res.curve_freq_hz', 'res.curve_spl_db', 'res.curve_impedance_ohm', 'res.curve_thd_pct', 'm.limits')
-  const r = await viewQuery(db).where('r.id', id).first(cols)
-  if (!r) return undefined
+const VIEW_COLUMNS = [...SUMMARY_COLUMNS, 'res.parameters', 'res.flags', 'res.engine_version', 'res.timings_ms', 'res.classical']
+const CURVE_COLUMNS = ['res.curve_freq_hz', 'res.curve_spl_db', 'res.curve_impedance_ohm', 'res.curve_thd_pct', 'm.limits']
+
+interface ViewRow extends SummaryRow {
+  parameters: Record<string, unknown> | null
+  flags: RecordingView['flags']
+  classical: Record<string, unknown> | null
+  engine_version: string | null
+  timings_ms: Record<string, number> | null
+  curve_freq_hz?: number[] | null
+  curve_spl_db?: (number | null)[] | null
+  curve_impedance_ohm?: (number | null)[] | null
+  curve_thd_pct?: (number | null)[] | null
+  limits?: { curves?: { splDb?: CurveLimit; impedanceOhm?: CurveLimit } } | null
+}
+
+function toView(r: ViewRow, curves: boolean): RecordingView {
   const { unmeasured = [], notes = [], thdAt = [], ...parameters } = (r.parameters ?? {}) as Record<string, unknown>
   const view: RecordingView = {
     ...toSummary(r),
@@ -154,17 +196,23 @@ export async function getRecordingView(db: Knex, id: number, opts: { curves?: bo
     engineVersion: r.engine_version ?? null,
     timingsMs: r.timings_ms ?? null,
   }
-  if (opts.curves && r.curve_freq_hz) {
+  if (curves && r.curve_freq_hz) {
     view.curves = {
       freqHz: r.curve_freq_hz,
-      splDb: r.curve_spl_db,
-      impedanceOhm: r.curve_impedance_ohm,
-      thdPct: r.curve_thd_pct,
+      splDb: r.curve_spl_db ?? null,
+      impedanceOhm: r.curve_impedance_ohm ?? null,
+      thdPct: r.curve_thd_pct ?? null,
       maskSplDb: r.limits?.curves?.splDb ?? null,
       maskImpedanceOhm: r.limits?.curves?.impedanceOhm ?? null,
     } satisfies RecordingCurves
   }
   return view
+}
+
+/** One recording with its result, as GET /api/recordings/:id answers. */
+export async function getRecordingView(db: Knex, id: number, opts: { curves?: boolean } = {}): Promise<RecordingView | undefined> {
+  const r = await viewQuery(db).where('r.id', id).first(opts.curves ? [...VIEW_COLUMNS, ...CURVE_COLUMNS] : VIEW_COLUMNS)
+  return r ? toView(r as ViewRow, !!opts.curves) : undefined
 }
 
 /** The latest recordings, newest first, optionally of one station. */
@@ -174,9 +222,8 @@ export async function listRecentRecordings(db: Knex, filter: { stationId?: numbe
   return (await q).map(toSummary)
 }
 
-/** Every recording of a unit, newest first. */
+/** Every recording of a unit with its result, newest first (one query). */
 export async function listUnitRecordings(db: Knex, unitId: number): Promise<RecordingView[]> {
-  const ids = await db('recordings').where({ unit_id: unitId }).orderBy('id', 'desc').pluck('id')
-  const views = await Promise.all(ids.map((id: string) => getRecordingView(db, Number(id))))
-  return views.filter((v): v is RecordingView => v !== undefined)
+  const rows = await viewQuery(db).where('r.unit_id', unitId).orderBy('r.id', 'desc').select(VIEW_COLUMNS)
+  return (rows as ViewRow[]).map((r) => toView(r, false))
 }

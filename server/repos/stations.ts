@@ -2,6 +2,7 @@ import { createHash, randomBytes } from 'node:crypto'
 import type { Knex } from 'knex'
 import type { StationProfile } from '../analysis/index.ts'
 import type { StationView } from '../../shared/types/api.ts'
+import { isUniqueViolation } from './pg-errors.ts'
 
 /** A station as the API shows it, with its profile typed by the engine's schema. */
 export type StationSummary = Omit<StationView, 'profile'> & { profile: StationProfile }
@@ -100,7 +101,6 @@ export class StationConflict extends Error {
   readonly code = 'duplicate_station'
 }
 
-const isUniqueViolation = (err: unknown) => typeof err === 'object' && err !== null && (err as { code?: string }).code === '23505'
 
 async function guardName<T>(name: string | undefined, work: () => Promise<T>): Promise<T> {
   try {

@@ -6,17 +6,21 @@ import { saveResult } from '../repos/results.ts'
 import { getProfileVersion } from '../repos/stations.ts'
 import { getProductById } from '../repos/products.ts'
 import type { RecordingStorage } from '../storage/recordings.ts'
+import { RETRY_LIMIT } from '../queue/index.ts'
 import { judge } from '../verdict/judge.ts'
 
 export type ProcessOutcome = 'done' | 'rejected' | 'skipped'
+
+/** One try plus the queue's retries. */
+const MAX_ATTEMPTS = RETRY_LIMIT + 1
 
 /**
  * Analyses one stored recording and saves its result, judged by the product's released mask when
  * there is one. Idempotent: a recording already finished is skipped. Input the engine refuses ends
  * `rejected` (retrying cannot help); other errors are thrown so the queue retries them.
  */
-export async function processRecording(db: Knex, storage: RecordingStorage, recordingId: number): Promise<ProcessOutcome> {
-  if (!(await markAnalysing(db, recordingId))) return 'skipped'
+export async function processRecording(db: Knex, storage: RecordingStorage, recordingId: number, maxAttempts = MAX_ATTEMPTS): Promise<ProcessOutcome> {
+  if (!(await markAnalysing(db, recordingId, maxAttempts))) return 'skipped'
   const rec = (await getRecording(db, recordingId))!
   const unit = await db('units').where({ id: rec.unit_id }).first()
   const product = (await getProductById(db, Number(unit.product_id)))!

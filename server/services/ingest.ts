@@ -4,10 +4,11 @@ import type { Knex } from 'knex'
 import type PgBoss from 'pg-boss'
 import { AnalysisInputError, parseImpedanceTable, validateRecording, type StationProfile } from '../analysis/index.ts'
 import { enqueueAnalysis } from '../queue/index.ts'
-import { findRecordingByContent, insertRecording } from '../repos/recordings.ts'
+import { findRecordingByContent, findRecordingOfOtherUnit, insertRecording } from '../repos/recordings.ts'
 import { resolveUnit } from '../repos/units.ts'
 import { newStorageKey, type RecordingStorage } from '../storage/recordings.ts'
 import type { UploadFields } from '../../shared/utils/bench.ts'
+import { isUniqueViolation } from '../repos/pg-errors.ts'
 
 /** Why an upload was refused before anything was stored; `status` is the HTTP status to answer. */
 export class UploadRefused extends Error {
@@ -67,9 +68,6 @@ export function validateUpload(bytes: Buffer, kind: 'sweep' | 'impedance_table',
   }
 }
 
-function isUniqueViolation(err: unknown): boolean {
-  return typeof err === 'object' && err !== null && (err as { code?: string }).code === '23505'
-}
 
 /**
  * Accepts one upload: validates it, then in one transaction registers the unit when new, stores the
@@ -91,6 +89,10 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
         const unit = await resolveUnit(trx, serial, product, lot)
         const earlier = await findRecordingByContent(trx, Number(unit.id), sha256)
         if (earlier) return { id: Number(earlier.id), status: earlier.status, duplicate: true }
+        const elsewhere = await findRecordingOfOtherUnit(trx, Number(unit.id), sha256)
+        if (elsewhere) {
+          throw new UploadRefused(422, 'same_recording_other_unit', `This exact file was already uploaded for unit ${elsewhere.serial}: a station must record each unit anew`)
+        }
         const id = await insertRecording(trx, {
           unitId: Number(unit.id),
           stationId: src.station?.id ?? null,

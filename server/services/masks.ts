@@ -151,7 +151,8 @@ export async function previewMask(db: Knex, maskId: number, last: number): Promi
   if (!m) return undefined
   const product = (await getProductById(db, m.productId))!
   const active = await getActiveMask(db, m.productId)
-  const results = await listProductResults(db, m.productId, { last })
+  // Units, not results: each unit's latest production result, so a retested unit counts once.
+  const results = await listLatestPerUnit(db, m.productId, last)
   const rated = product.ratedImpedanceOhm
   const failing = (j: Judgement | null) => new Set(j ? j.checks.filter((c) => !c.pass).map((c) => c.name) : [])
   const draft = { pass: 0, fail: 0 }

@@ -125,6 +125,26 @@ describe('upload, analysis and verdict', () => {
     expect(after).toMatchObject({ recordings: before.recordings, jobs: before.jobs, files: before.files, units: before.units })
   })
 
+  it('refuses the same file for another unit (a stale recording sent for a new serial) and stores nothing', async () => {
+    const bytes = wav(130)
+    const first = await postRecording(host, tech, { serial: unique('ORIG'), product: product.code, station: station.id }, { bytes, name: 'a.wav' })
+    expect(first.status).toBe(202)
+    const before = await counts()
+    const other = await postRecording(host, tech, { serial: unique('OTHER'), product: product.code, station: station.id }, { bytes, name: 'a.wav' })
+    expect(other.status).toBe(422)
+    expect(other.body.data?.code).toBe('same_recording_other_unit')
+    expect(await counts()).toEqual(before)
+  })
+
+  it('answers concurrent retries of one file with one recording', async () => {
+    const serial = unique('RACE')
+    const bytes = wav(131)
+    const answers = await Promise.all(Array.from({ length: 5 }, () => postRecording(host, tech, { serial, product: product.code, station: station.id }, { bytes, name: 'r.wav' })))
+    expect(answers.map((a) => a.status).sort()).toEqual([200, 200, 200, 200, 202])
+    expect(new Set(answers.map((a) => a.body.id)).size).toBe(1)
+    expect(await testDb()('recordings').join('units', 'units.id', 'recordings.unit_id').where('units.serial', serial).count<{ c: string }[]>({ c: '*' })).toEqual([{ c: '1' }])
+  })
+
   it('keeps history: a retest is a new recording, the unit lists both newest first', async () => {
     const serial = unique('RETEST')
     const a = await postRecording(host, tech, { serial, product: product.code, station: station.id }, { bytes: wav(104, 'inverted_polarity'), name: '1.wav' })
