@@ -1,0 +1,103 @@
+/** Response types of the quality pages (lots, lot report, dashboard, likely causes, alerts). */
+
+export type ReportFigure = 'fsHz' | 're20Ohm' | 'qts' | 'sensitivityDb' | 'thdMaxPct'
+
+export interface LotSummary {
+  code: string
+  productCode: string
+  productName: string
+  createdAt: string
+  closedAt: string | null
+  unitsTested: number
+  /** Fractions 0–1, null when nothing to divide by. */
+  firstPassYield: number | null
+  finalYield: number | null
+  lastTestAt: string | null
+}
+
+export interface FigureDistribution {
+  figure: ReportFigure
+  label: string
+  unit: string
+  n: number
+  mean: number | null
+  sd: number | null
+  /** Limits of the product's active mask (null: open). */
+  lsl: number | null
+  usl: number | null
+  cp: number | null
+  cpk: number | null
+  histogram: { edges: number[]; counts: number[] }
+}
+
+export interface ControlChartView {
+  figure: 'fsHz' | 're20Ohm'
+  label: string
+  unit: string
+  /** Production order: each unit's first production result. */
+  points: { serial: string; at: string; value: number }[]
+  centre: number
+  ucl: number
+  lcl: number
+  sigma: number
+  mrBar: number
+  mrUcl: number
+  baseline: 'golden' | 'first_in_control'
+  signals: { index: number; serial: string; rule: string; side: 'above' | 'below' }[]
+  /** Plain-language warnings, one per rule that fired. */
+  warnings: string[]
+}
+
+export interface ParetoRowView {
+  check: string
+  label: string
+  units: number
+  fraction: number
+  cumulativeFraction: number
+  /** Trade knowledge (editable by engineers), for the failure classes under this check. */
+  likelyCauses: { failureClass: string; causes: string[] }[]
+}
+
+export interface LotReport {
+  lot: { code: string; productCode: string; productName: string; createdAt: string; closedAt: string | null }
+  maskVersion: number | null
+  summary: {
+    unitsTested: number
+    unitsJudged: number
+    unitsNeverJudged: number
+    firstPassYield: number | null
+    finalYield: number | null
+    retestRate: number | null
+  }
+  pareto: { any: { units: number; fraction: number | null }; rows: ParetoRowView[] }
+  distributions: FigureDistribution[]
+  drift: ControlChartView[]
+  generatedAt: string
+}
+
+/** One failure class (a check, with a direction for two-sided figures: "fsHz:high") and its likely causes. */
+export interface LikelyCause {
+  failureClass: string
+  label: string
+  causes: string[]
+  updatedAt: string
+  updatedBy: string | null
+}
+
+export interface AlertView {
+  id: number
+  productCode: string
+  lotCode: string | null
+  kind: 'low_yield' | 'drift'
+  message: string
+  openedAt: string
+  closedAt: string | null
+  mailedAt: string | null
+}
+
+export interface DashboardView {
+  date: string
+  byLineProduct: { line: string; productCode: string; unitsTested: number; passed: number; failed: number; yield: number | null }[]
+  openLots: LotSummary[]
+  alerts: AlertView[]
+}
