@@ -152,3 +152,9 @@ export async function rotateStationToken(db: Knex, id: number): Promise<string |
   const n = await db('stations').where({ id }).update({ token_hash: t.hash, token_hint: t.hint, updated_at: db.fn.now() })
   return n ? t.token : undefined
 }
+
+/** The station profiles the given recordings were analysed with. */
+export async function listProfilesOfRecordings(db: Knex, recordingIds: number[]): Promise<StationProfile[]> {
+  const rows = await db('recordings as r').join('station_profiles as sp', 'sp.id', 'r.station_profile_id').whereIn('r.id', recordingIds).select('sp.profile')
+  return rows.map((r: { profile: StationProfile }) => r.profile)
+}

@@ -21,6 +21,19 @@ export async function getUnitBySerial(db: Knex, serial: string): Promise<UnitRow
   return db<UnitRow>('units').where({ serial }).first()
 }
 
+export async function getUnitById(db: Knex, id: number): Promise<UnitRow | undefined> {
+  return db<UnitRow>('units').where({ id: String(id) }).first()
+}
+
+export async function getLotCode(db: Knex, lotId: number): Promise<{ code: string } | null> {
+  return (await db('lots').where({ id: lotId }).first('code')) ?? null
+}
+
+/** Of these serials, the ones that belong to a product other than this one. */
+export async function serialsOfOtherProducts(db: Knex, serials: string[], productId: number): Promise<string[]> {
+  return db('units').whereIn('serial', serials).whereNot({ product_id: productId }).pluck('serial')
+}
+
 /** The lot with this code, created under the product when absent. @throws UnitInputError when it belongs to another product. */
 export async function findOrCreateLot(db: Knex, productId: number, code: string): Promise<number> {
   await db('lots').insert({ product_id: productId, code }).onConflict('code').ignore()

@@ -5,6 +5,7 @@ import { getRecording, markAnalysing, markFinishedWithError } from '../repos/rec
 import { saveResult } from '../repos/results.ts'
 import { getProfileVersion } from '../repos/stations.ts'
 import { getProductById } from '../repos/products.ts'
+import { getUnitById } from '../repos/units.ts'
 import type { RecordingStorage } from '../storage/recordings.ts'
 import { RETRY_LIMIT } from '../queue/index.ts'
 import { judge } from '../verdict/judge.ts'
@@ -22,7 +23,7 @@ const MAX_ATTEMPTS = RETRY_LIMIT + 1
 export async function processRecording(db: Knex, storage: RecordingStorage, recordingId: number, maxAttempts = MAX_ATTEMPTS): Promise<ProcessOutcome> {
   if (!(await markAnalysing(db, recordingId, maxAttempts))) return 'skipped'
   const rec = (await getRecording(db, recordingId))!
-  const unit = await db('units').where({ id: rec.unit_id }).first()
+  const unit = (await getUnitById(db, Number(rec.unit_id)))!
   const product = (await getProductById(db, Number(unit.product_id)))!
   const bytes = await storage.read(rec.storage_key)
   let analysis: AnalysisResult

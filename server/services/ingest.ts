@@ -5,7 +5,7 @@ import type PgBoss from 'pg-boss'
 import { AnalysisInputError, parseImpedanceTable, validateRecording, type StationProfile } from '../analysis/index.ts'
 import { enqueueAnalysis } from '../queue/index.ts'
 import { findRecordingByContent, findRecordingOfOtherUnit, insertRecording } from '../repos/recordings.ts'
-import { resolveUnit } from '../repos/units.ts'
+import { getUnitBySerial, resolveUnit } from '../repos/units.ts'
 import { newStorageKey, type RecordingStorage } from '../storage/recordings.ts'
 import type { UploadFields } from '../../shared/utils/bench.ts'
 import { isUniqueViolation } from '../repos/pg-errors.ts'
@@ -115,7 +115,7 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
       if (stored) await storage.remove(key)
       if (isUniqueViolation(err)) {
         // A concurrent retry of the same file won the race: answer with its recording.
-        const unit = await db('units').where({ serial }).first()
+        const unit = await getUnitBySerial(db, serial)
         const earlier = unit && (await findRecordingByContent(db, Number(unit.id), sha256))
         if (earlier) return { id: Number(earlier.id), status: earlier.status, duplicate: true }
       }

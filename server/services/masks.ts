@@ -4,6 +4,8 @@ import { reDisagreementPct } from '../../shared/utils/coil.ts'
 import { SCALAR_LIMIT_NAMES, figureValue, type MaskCreateInput, type MaskLimits } from '../../shared/utils/mask.ts'
 import { createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, type ActiveMask } from '../repos/masks.ts'
 import { getProductByCode, getProductById } from '../repos/products.ts'
+import { listProfilesOfRecordings } from '../repos/stations.ts'
+import { serialsOfOtherProducts } from '../repos/units.ts'
 import { listLatestPerUnit, listProductResults, setFirstVerdict, type StoredResult } from '../repos/results.ts'
 import { judge, type Judgement } from '../verdict/judge.ts'
 import { proposeLimits, summarize } from '../verdict/propose.ts'
@@ -50,7 +52,7 @@ export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, use
   const found = new Set(golden.map((g) => g.serial))
   const missing = input.goldenSerials.filter((s) => !found.has(s))
   if (missing.length) {
-    const elsewhere = await db('units').whereIn('serial', missing).whereNot({ product_id: product.id }).pluck('serial')
+    const elsewhere = await serialsOfOtherProducts(db, missing, product.id)
     if (elsewhere.length) throw new GoldenError('golden_wrong_product', `Not ${product.code} units: ${elsewhere.join(', ')}`)
     throw new GoldenError('golden_not_measured', `No measured result for: ${missing.join(', ')}`)
   }
@@ -79,23 +81,27 @@ export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, use
 
 /** The sweep band the golden units were measured with (their stations' profiles), for the default curve range. */
 async function sweepBandOf(db: Knex, golden: StoredResult[]): Promise<[number, number] | undefined> {
-  const rows = await db('recordings as r')
-    .join('station_profiles as sp', 'sp.id', 'r.station_profile_id')
-    .whereIn('r.id', golden.map((g) => g.recordingId))
-    .select('sp.profile')
-  if (!rows.length) return undefined
-  const f1 = Math.max(...rows.map((r: { profile: { sweep: { f1Hz: number } } }) => r.profile.sweep.f1Hz))
-  const f2 = Math.min(...rows.map((r: { profile: { sweep: { f2Hz: number } } }) => r.profile.sweep.f2Hz))
+  const profiles = await listProfilesOfRecordings(db, golden.map((g) => g.recordingId))
+  if (!profiles.length) return undefined
+  const f1 = Math.max(...profiles.map((p) => p.sweep.f1Hz))
+  const f2 = Math.min(...profiles.map((p) => p.sweep.f2Hz))
   return f2 > f1 ? [f1, f2] : undefined
 }
 
 /** Judges every never-judged production result of the product with the newly released mask. */
 export async function judgeUnjudged(trx: Knex.Transaction, mask: ActiveMask, productId: number): Promise<number> {
   const product = (await getProductById(trx, productId))!
-  const results = await listProductResults(trx, productId, { unjudgedOnly: true })
-  for (const r of results) await setFirstVerdict(trx, r.resultId, mask.id, judge(r, mask.limits, product.ratedImpedanceOhm))
-  return results.length
+  let judged = 0
+  // In batches, so a product with a long unjudged history never loads it all at once.
+  for (;;) {
+    const batch = await listProductResults(trx, productId, { unjudgedOnly: true, last: JUDGE_BATCH })
+    for (const r of batch) await setFirstVerdict(trx, r.resultId, mask.id, judge(r, mask.limits, product.ratedImpedanceOhm))
+    judged += batch.length
+    if (batch.length < JUDGE_BATCH) return judged
+  }
 }
+
+const JUDGE_BATCH = 500
 
 /** Releases a draft and judges the product's never-judged results with it, in one transaction. */
 export function releaseAndJudge(db: Knex, maskId: number, by: number | null, comment: string, at?: Date) {

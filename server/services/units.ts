@@ -4,7 +4,7 @@ import { getActiveMask } from '../repos/masks.ts'
 import { getProductById } from '../repos/products.ts'
 import { listUnitRecordings } from '../repos/recordings.ts'
 import { listProductResults } from '../repos/results.ts'
-import { getUnitBySerial } from '../repos/units.ts'
+import { getLotCode, getUnitBySerial } from '../repos/units.ts'
 import { judge } from '../verdict/judge.ts'
 
 /**
@@ -17,7 +17,7 @@ export async function getUnitView(db: Knex, serial: string): Promise<UnitView | 
   const productId = Number(unit.product_id)
   const [product, lot, recordings, active] = await Promise.all([
     getProductById(db, productId),
-    unit.lot_id ? db('lots').where({ id: unit.lot_id }).first('code') : Promise.resolve(null),
+    unit.lot_id ? getLotCode(db, Number(unit.lot_id)) : Promise.resolve(null),
     listUnitRecordings(db, Number(unit.id)),
     getActiveMask(db, productId),
   ])

@@ -225,3 +225,18 @@ export interface MaskPreview {
   /** Per check: results it would newly fail and newly pass. */
   byCheck: { check: string; newFails: number; newPasses: number }[]
 }
+
+/** POST /api/masks/:id/release and /retire. */
+export interface MaskTransition {
+  id: number
+  version: number
+  status: 'released' | 'retired'
+  /** Release only: never-judged results the new mask judged. */
+  judgedUnjudged?: number
+}
+
+/** POST /api/stations (201) and POST /api/stations/:id/token: the token is shown this once. */
+export interface StationToken {
+  id: number
+  token: string
+}

@@ -1,6 +1,7 @@
 import { createStation } from '../../repos/stations'
 import { stationProfileSchema } from '../../analysis/index'
 import { stationCreateSchema } from '../../../shared/utils/bench'
+import type { StationToken } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
@@ -11,5 +12,5 @@ export default defineEventHandler(async (event) => {
   })
   setResponseStatus(event, 201)
   // The token is shown this once; only its hash is kept.
-  return created
+  return created satisfies StationToken
 })

@@ -1,6 +1,7 @@
 import { releaseAndJudge } from '../../../services/masks'
 import { idParamSchema } from '../../../../shared/utils/bench'
 import { maskReleaseSchema } from '../../../../shared/utils/mask'
+import type { MaskTransition } from '../../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
@@ -8,7 +9,7 @@ export default defineEventHandler(async (event) => {
   const { comment } = await readValidatedBody(event, zodValidator(maskReleaseSchema))
   try {
     const { version, judgedUnjudged } = await releaseAndJudge(useDb(), id, user.id, comment)
-    return { id, version, status: 'released' as const, judgedUnjudged }
+    return { id, version, status: 'released', judgedUnjudged } satisfies MaskTransition
   } catch (err) {
     throw toHttpError(err)
   }

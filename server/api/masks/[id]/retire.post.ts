@@ -1,6 +1,7 @@
 import { retireMask } from '../../../repos/masks'
 import { idParamSchema } from '../../../../shared/utils/bench'
 import { maskRetireSchema } from '../../../../shared/utils/mask'
+import type { MaskTransition } from '../../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
@@ -8,7 +9,7 @@ export default defineEventHandler(async (event) => {
   const { comment } = await readValidatedBody(event, zodValidator(maskRetireSchema))
   try {
     const { version } = await retireMask(useDb(), id, user.id, comment ?? null)
-    return { id, version, status: 'retired' as const }
+    return { id, version, status: 'retired' } satisfies MaskTransition
   } catch (err) {
     throw toHttpError(err)
   }
