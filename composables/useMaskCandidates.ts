@@ -1,7 +1,7 @@
 import type { MaskCandidate, RecordingCurves } from '#shared/types/api'
 
-/** Candidates listed for picking; the API's own default. */
-const CANDIDATE_LIMIT = 200
+/** Candidates listed for picking: the API's maximum, so pasted serials of older units are found too. */
+const CANDIDATE_LIMIT = 2000
 
 /**
  * The product's measured units to pick golden units from, which ones are ticked, and the
