@@ -54,6 +54,8 @@ export interface ParetoRowView {
   units: number
   fraction: number
   cumulativeFraction: number
+  /** units / the units the basis reads (pareto.unitsConsidered). */
+  unitFraction: number
   /** Trade knowledge (editable by engineers), for the failure classes under this check. */
   likelyCauses: { failureClass: string; causes: string[] }[]
 }
@@ -68,10 +70,19 @@ export interface LotReport {
     firstPassYield: number | null
     finalYield: number | null
     retestRate: number | null
+    /** Numerators: units whose first result passed, whose latest judged result passed, tested more than once. */
+    firstPassUnits: number
+    finalPassUnits: number
+    retestedUnits: number
   }
-  pareto: { any: { units: number; fraction: number | null }; rows: ParetoRowView[] }
+  /** basis `first`: each unit's first result (the first-pass yield's loss); unitsConsidered: units whose first result is judged. */
+  pareto: { basis: 'first' | 'final' | 'ever'; unitsConsidered: number; any: { units: number; fraction: number | null }; rows: ParetoRowView[] }
   distributions: FigureDistribution[]
   drift: ControlChartView[]
+  /** Why a drift chart is missing (too few units for control limits). */
+  driftNotes: string[]
+  /** Says the likely causes are trade knowledge, not a diagnosis. */
+  causesNote: string
   generatedAt: string
 }
 

@@ -1,0 +1,14 @@
+import { getLotReport } from '../../../services/lot-report'
+import { renderLotReportPdf } from '../../../reports/pdf'
+import { lotParamSchema } from '../../../../shared/utils/reports'
+
+/** The lot report as a PDF download; technicians and support cannot export. */
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'quality', 'engineer')
+  const { code } = await getValidatedRouterParams(event, zodValidator(lotParamSchema))
+  const report = await getLotReport(useDb(), code)
+  if (!report) throw httpError(404, 'unknown_lot', `No lot ${code}`)
+  setResponseHeader(event, 'content-type', 'application/pdf')
+  setResponseHeader(event, 'content-disposition', `attachment; filename="lot-${code}.pdf"`)
+  return await renderLotReportPdf(report)
+})

@@ -1,0 +1,9 @@
+import { listLots } from '../../services/lot-report'
+import { lotListQuerySchema } from '../../../shared/utils/reports'
+import type { LotSummary } from '../../../shared/types/reports'
+
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'quality', 'engineer', 'support')
+  const q = await getValidatedQuery(event, zodValidator(lotListQuerySchema))
+  return (await listLots(useDb(), { productCode: q.product, open: q.open, limit: q.limit })) satisfies LotSummary[]
+})

@@ -1,0 +1,242 @@
+import type { Knex } from 'knex'
+import type { AlertView, LotSummary } from '../../shared/types/reports.ts'
+
+export interface LotRow {
+  id: number
+  code: string
+  productId: number
+  productCode: string
+  productName: string
+  createdAt: Date
+  closedAt: Date | null
+}
+
+/** A lot with its product; undefined for an unknown code. */
+export async function getLotByCode(db: Knex, code: string): Promise<LotRow | undefined> {
+  const r = await db('lots as l')
+    .join('products as p', 'p.id', 'l.product_id')
+    .where('l.code', code)
+    .first('l.id', 'l.code', 'l.product_id', 'p.code as product_code', 'p.name as product_name', 'l.created_at', 'l.closed_at')
+  return (
+    r && {
+      id: Number(r.id),
+      code: r.code,
+      productId: Number(r.product_id),
+      productCode: r.product_code,
+      productName: r.product_name,
+      createdAt: r.created_at,
+      closedAt: r.closed_at,
+    }
+  )
+}
+
+/** One production result of a unit of a lot, with the figures the lot report reads. */
+export interface LotResultRow {
+  unitId: number
+  serial: string
+  resultId: number
+  uploadedAt: Date
+  verdict: 'pass' | 'fail' | null
+  checks: { name: string; value: number | null; low: number | null; high: number | null; pass: boolean }[]
+  fsHz: number | null
+  re20Ohm: number | null
+  reOhm: number | null
+  qts: number | null
+  sensitivityDb: number | null
+  thdMaxPct: number | null
+  rubBuzzDb: number | null
+}
+
+/**
+ * Every production result (return tests left out) of the units of a lot, oldest first: upload time,
+ * then result id for uploads in the same instant.
+ */
+export async function listLotResults(db: Knex, lotId: number): Promise<LotResultRow[]> {
+  const rows = await db('units as u')
+    .join('results as res', 'res.unit_id', 'u.id')
+    .join('recordings as r', 'r.id', 'res.recording_id')
+    .where({ 'u.lot_id': lotId, 'r.is_return_test': false })
+    .orderBy([{ column: 'r.uploaded_at' }, { column: 'res.id' }])
+    .select(
+      'u.id as unit_id', 'u.serial', 'res.id as result_id', 'r.uploaded_at', 'res.verdict', 'res.checks',
+      'res.fs_hz', 'res.re20_ohm', 'res.re_ohm', 'res.qts', 'res.sensitivity_db', 'res.thd_max_pct', 'res.rub_buzz_db',
+    )
+  return rows.map((r) => ({
+    unitId: Number(r.unit_id),
+    serial: r.serial,
+    resultId: Number(r.result_id),
+    uploadedAt: r.uploaded_at,
+    verdict: r.verdict,
+    checks: (r.checks?.checks ?? []) as LotResultRow['checks'],
+    fsHz: r.fs_hz,
+    re20Ohm: r.re20_ohm,
+    reOhm: r.re_ohm,
+    qts: r.qts,
+    sensitivityDb: r.sensitivity_db,
+    thdMaxPct: r.thd_max_pct,
+    rubBuzzDb: r.rub_buzz_db,
+  }))
+}
+
+/** Fs and Re (20 °C, raw Re without an ambient) of a mask's golden units, from the recordings the mask was built on. */
+export async function listGoldenFigures(db: Knex, maskId: number): Promise<{ serial: string; fsHz: number | null; re20Ohm: number | null }[]> {
+  const rows = await db('mask_golden as g')
+    .join('results as res', 'res.recording_id', 'g.recording_id')
+    .where('g.mask_id', maskId)
+    .orderBy('g.serial')
+    .select('g.serial', 'res.fs_hz', db.raw('coalesce(res.re20_ohm, res.re_ohm) as re'))
+  return rows.map((r: { serial: string; fs_hz: number | null; re: number | null }) => ({ serial: r.serial, fsHz: r.fs_hz, re20Ohm: r.re }))
+}
+
+export interface LotFilter {
+  productCode?: string
+  open?: boolean
+  limit?: number
+}
+
+/**
+ * Lots with their yield, newest first. Per unit: its first production result and its latest judged
+ * one (definitions as in server/stats/yield.ts: first-pass yield over units whose first result is
+ * judged, final yield over units judged).
+ */
+export async function listLotSummaries(db: Knex, filter: LotFilter = {}): Promise<LotSummary[]> {
+  const lots = db('lots as l')
+    .join('products as p', 'p.id', 'l.product_id')
+    .select('l.id', 'l.code', 'l.created_at', 'l.closed_at', 'p.code as product_code', 'p.name as product_name')
+    .orderBy([{ column: 'l.created_at', order: 'desc' }, { column: 'l.id', order: 'desc' }])
+    .limit(filter.limit ?? 200)
+  if (filter.productCode) lots.where('p.code', filter.productCode)
+  if (filter.open === true) lots.whereNull('l.closed_at')
+  if (filter.open === false) lots.whereNotNull('l.closed_at')
+  const { rows } = await db.raw(
+    `
+    WITH lot AS (${lots.toQuery()}),
+    per_unit AS (
+      SELECT u.lot_id,
+             (array_agg(res.verdict ORDER BY r.uploaded_at, res.id))[1] AS first_verdict,
+             (array_agg(res.verdict ORDER BY r.uploaded_at DESC, res.id DESC) FILTER (WHERE res.verdict IS NOT NULL))[1] AS last_verdict,
+             max(r.uploaded_at) AS last_at
+        FROM lot
+        JOIN units u ON u.lot_id = lot.id
+        JOIN results res ON res.unit_id = u.id
+        JOIN recordings r ON r.id = res.recording_id AND NOT r.is_return_test
+       GROUP BY u.lot_id, u.id
+    ),
+    per_lot AS (
+      SELECT lot_id,
+             count(*) AS tested,
+             count(*) FILTER (WHERE first_verdict IS NOT NULL) AS first_judged,
+             count(*) FILTER (WHERE first_verdict = 'pass') AS first_pass,
+             count(*) FILTER (WHERE last_verdict IS NOT NULL) AS judged,
+             count(*) FILTER (WHERE last_verdict = 'pass') AS final_pass,
+             max(last_at) AS last_at
+        FROM per_unit GROUP BY lot_id
+    )
+    SELECT lot.*, coalesce(pl.tested, 0) AS tested, coalesce(pl.first_judged, 0) AS first_judged, coalesce(pl.first_pass, 0) AS first_pass,
+           coalesce(pl.judged, 0) AS judged, coalesce(pl.final_pass, 0) AS final_pass, pl.last_at
+      FROM lot LEFT JOIN per_lot pl ON pl.lot_id = lot.id
+     ORDER BY lot.created_at DESC, lot.id DESC`,
+  )
+  const ratio = (a: string, b: string) => (Number(b) === 0 ? null : Number(a) / Number(b))
+  return rows.map(
+    (r: SummaryRow): LotSummary => ({
+      code: r.code,
+      productCode: r.product_code,
+      productName: r.product_name,
+      createdAt: new Date(r.created_at).toISOString(),
+      closedAt: r.closed_at ? new Date(r.closed_at).toISOString() : null,
+      unitsTested: Number(r.tested),
+      firstPassYield: ratio(r.first_pass, r.first_judged),
+      finalYield: ratio(r.final_pass, r.judged),
+      lastTestAt: r.last_at ? new Date(r.last_at).toISOString() : null,
+    }),
+  )
+}
+
+interface SummaryRow {
+  code: string
+  product_code: string
+  product_name: string
+  created_at: Date
+  closed_at: Date | null
+  tested: string
+  first_judged: string
+  first_pass: string
+  judged: string
+  final_pass: string
+  last_at: Date | null
+}
+
+export interface LineProductDay {
+  line: string
+  productCode: string
+  unitsTested: number
+  passed: number
+  failed: number
+}
+
+/**
+ * Units tested on each line (stations.line) and product in [from, to), production only; each unit
+ * counted once by its latest judged result in the window (a retest that passed counts as passed).
+ */
+export async function listDayYield(db: Knex, from: Date, to: Date): Promise<LineProductDay[]> {
+  const { rows } = await db.raw(
+    `
+    SELECT line, product_code, count(*) AS tested,
+           count(*) FILTER (WHERE last_verdict = 'pass') AS passed,
+           count(*) FILTER (WHERE last_verdict = 'fail') AS failed
+      FROM (
+        SELECT coalesce(s.line, '') AS line, p.code AS product_code, res.unit_id,
+               (array_agg(res.verdict ORDER BY r.uploaded_at DESC, res.id DESC) FILTER (WHERE res.verdict IS NOT NULL))[1] AS last_verdict
+          FROM recordings r
+          JOIN results res ON res.recording_id = r.id
+          JOIN units u ON u.id = res.unit_id
+          JOIN products p ON p.id = u.product_id
+          LEFT JOIN stations s ON s.id = r.station_id
+         WHERE r.uploaded_at >= ? AND r.uploaded_at < ? AND NOT r.is_return_test
+         GROUP BY 1, 2, 3
+      ) per_unit
+     GROUP BY line, product_code
+     ORDER BY line, product_code`,
+    [from, to],
+  )
+  return rows.map((r: { line: string; product_code: string; tested: string; passed: string; failed: string }) => ({
+    line: r.line,
+    productCode: r.product_code,
+    unitsTested: Number(r.tested),
+    passed: Number(r.passed),
+    failed: Number(r.failed),
+  }))
+}
+
+/**
+ * Open alerts, newest first, from the `alerts` table when it exists (it belongs to the alert rules,
+ * added separately): [] without it. Columns are read by name with fallbacks, so this stays valid
+ * while that table's shape settles.
+ */
+export async function listOpenAlerts(db: Knex, limit = 50): Promise<AlertView[]> {
+  const { rows: exists } = await db.raw(`SELECT to_regclass('public.alerts') IS NOT NULL AS present`)
+  if (!exists[0]?.present) return []
+  const { rows } = await db.raw(
+    `SELECT to_jsonb(a) AS a, p.code AS product_code, l.code AS lot_code
+       FROM alerts a
+       LEFT JOIN products p ON p.id = (to_jsonb(a) ->> 'product_id')::bigint
+       LEFT JOIN lots l ON l.id = (to_jsonb(a) ->> 'lot_id')::bigint
+      WHERE (to_jsonb(a) ->> 'closed_at') IS NULL
+      LIMIT ?`,
+    [limit],
+  )
+  const iso = (v: unknown) => (v ? new Date(String(v)).toISOString() : null)
+  return rows
+    .map((r: { a: Record<string, unknown>; product_code: string | null; lot_code: string | null }): AlertView => ({
+      id: Number(r.a.id),
+      productCode: r.product_code ?? String(r.a.product_code ?? ''),
+      lotCode: r.lot_code ?? ((r.a.lot_code as string | undefined) ?? null),
+      kind: r.a.kind === 'drift' ? 'drift' : 'low_yield',
+      message: String(r.a.message ?? ''),
+      openedAt: iso(r.a.opened_at ?? r.a.created_at) ?? new Date(0).toISOString(),
+      closedAt: null,
+      mailedAt: iso(r.a.mailed_at),
+    }))
+    .sort((a: AlertView, b: AlertView) => b.openedAt.localeCompare(a.openedAt))
+}
