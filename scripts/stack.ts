@@ -8,6 +8,8 @@ import { randomBytes } from 'node:crypto'
 import { createServer } from 'node:net'
 import { resolve } from 'node:path'
 import { register } from 'tsx/esm/api'
+import { defaultMailboxDir } from '../server/mail/index'
+import { startMailSink } from '../server/mail/sink'
 import { loadConfig, withDatabase } from '../server/utils/config'
 import { ensureDatabase, startCluster, stopCluster } from './db'
 import { migrateLatest, runSeeds } from './migrate'
@@ -28,6 +30,8 @@ export interface Stack {
   baseUrl: string
   databaseUrl: string
   dataDir: string
+  /** Where the local mail sink keeps what the server and workers send (starts empty). */
+  mailboxDir: string
   env: Record<string, string>
   startWorker(extraEnv?: Record<string, string>, stdout?: 'inherit' | 'pipe' | 'ignore'): ChildProcess
   stop(): Promise<void>
@@ -81,7 +85,9 @@ export async function startStack(o: StackOptions): Promise<Stack> {
     const b = spawnSync(process.execPath, [resolve(root, 'node_modules/nuxt/bin/nuxt.mjs'), 'build'], { cwd: root, env, stdio: ['ignore', 'ignore', 'inherit'] })
     if (b.status !== 0) throw new Error('nuxt build failed')
   }
-  const env: Record<string, string> = { DATABASE_URL: databaseUrl, CONETRAIL_DATA_DIR: o.dataDir, ...o.env }
+  // Every stack mails into its own local sink, never a real server.
+  const sink = await startMailSink({ dir: defaultMailboxDir(o.dataDir), clear: true })
+  const env: Record<string, string> = { DATABASE_URL: databaseUrl, CONETRAIL_DATA_DIR: o.dataDir, SMTP_URL: sink.url, CONETRAIL_MAILBOX_DIR: sink.dir, ...o.env }
   const port = await freePort()
   const server = spawn(process.execPath, [resolve(outputDir, 'server/index.mjs')], {
     cwd: root,
@@ -95,6 +101,7 @@ export async function startStack(o: StackOptions): Promise<Stack> {
     baseUrl,
     databaseUrl,
     dataDir: o.dataDir,
+    mailboxDir: sink.dir,
     env,
     startWorker(extraEnv = {}, stdout = 'inherit') {
       const w = spawn(process.execPath, ['--import', 'tsx', resolve(root, 'workers/analyze.ts')], {
@@ -108,6 +115,7 @@ export async function startStack(o: StackOptions): Promise<Stack> {
     async stop() {
       for (const p of [server, ...workers]) p.kill('SIGTERM')
       await Promise.all([server, ...workers].map(exited))
+      await sink.close()
       stopCluster({ dataDir: o.dataDir })
     },
   }

@@ -5,6 +5,8 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process'
 import { resolve } from 'node:path'
 import { fileURLToPath } from 'node:url'
+import { defaultMailboxDir, smtpConfigured } from '../server/mail/index'
+import { sinkPort, startMailSinkOrFreePort } from '../server/mail/sink'
 import { loadConfig } from '../server/utils/config'
 import { startForConfig, stopCluster } from './db'
 import { loadEnvFile } from './env-file'
@@ -35,8 +37,13 @@ async function main() {
     if (b.status !== 0) throw new Error('nuxt build failed')
   }
 
+  // No SMTP server configured: a local sink keeps the mail; admins read it at /dev/mailbox.
+  const sink = smtpConfigured() ? null : await startMailSinkOrFreePort({ dir: defaultMailboxDir(cfg.dataDir), port: sinkPort(process.env, cfg.port) })
+  log(sink ? `no SMTP server configured: mail goes to the local sink ${sink.url}, kept in ${sink.dir} (admins: /dev/mailbox)` : 'mail goes to the configured SMTP server')
+
   const env = {
     ...process.env,
+    ...(sink ? { SMTP_URL: sink.url, CONETRAIL_MAILBOX_DIR: sink.dir } : {}),
     HOST: cfg.host,
     PORT: String(cfg.port),
     DATABASE_URL: cfg.databaseUrl,
@@ -69,6 +76,7 @@ async function main() {
     if (stopping) return
     stopping = true
     for (const c of [server, ...workers.values()]) c.kill('SIGTERM')
+    sink?.forgetSync()
     if (!cfg.externalDatabase) stopCluster({ dataDir: cfg.dataDir })
     process.exit(code)
   }

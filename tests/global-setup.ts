@@ -16,6 +16,7 @@ declare module 'vitest' {
     baseUrl: string
     databaseUrl: string
     dataDir: string
+    mailboxDir: string
   }
 }
 
@@ -31,5 +32,6 @@ export default async function setup(project: TestProject) {
   project.provide('baseUrl', stack.baseUrl)
   project.provide('databaseUrl', stack.databaseUrl)
   project.provide('dataDir', stack.dataDir)
+  project.provide('mailboxDir', stack.mailboxDir)
   return () => stack.stop()
 }

@@ -13,6 +13,7 @@ import { loadConfig } from '../server/utils/config'
 import { ANALYSE_QUEUE, createBoss, ensureQueue, type AnalyseJob } from '../server/queue/index'
 import { failOrphanedRecordings, markFinishedWithError } from '../server/repos/recordings'
 import { processRecording } from '../server/services/analyse'
+import { evaluateAlerts } from '../server/services/alerts'
 import { directoryStorage } from '../server/storage/recordings'
 
 const cfg = loadConfig()
@@ -38,6 +39,7 @@ async function handle(job: PgBoss.JobWithMetadata<AnalyseJob>) {
   try {
     const outcome = await processRecording(db, storage, id)
     if (outcome !== 'skipped') log(`recording ${id}: ${outcome}`)
+    if (outcome === 'done') await checkAlerts(id)
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err)
     if (job.retryCount >= job.retryLimit) {
@@ -48,6 +50,17 @@ async function handle(job: PgBoss.JobWithMetadata<AnalyseJob>) {
     log(`recording ${id}: try ${job.retryCount + 1} failed, will retry: ${message}`)
     // Only this job goes back to the queue; the others of its batch complete normally.
     await boss.fail(ANALYSE_QUEUE, job.id, { message })
+  }
+}
+
+/** Alert rules after a saved result. Never throws: an alert or mail failure must not fail (or retry) the analysis. */
+async function checkAlerts(recordingId: number) {
+  try {
+    const rec = await db('recordings').where({ id: recordingId }).first('unit_id')
+    if (!rec) return
+    for (const c of await evaluateAlerts(db, { unitId: Number(rec.unit_id) }, { log })) log(`alert ${c.alertId} (${c.kind}): ${c.change}`)
+  } catch (err) {
+    log(`alerts after recording ${recordingId}: ${err instanceof Error ? err.message : String(err)}`)
   }
 }
 

@@ -1,0 +1,45 @@
+import { z } from 'zod'
+
+/** Defaults of a product's alert rules (the migration's column defaults). */
+export const ALERT_DEFAULTS = { lastN: 50, minYieldPct: 90, enabled: true } as const
+export const MAX_SUBSCRIBERS = 50
+export const MAX_RECIPIENTS = 20
+
+const email = z.string().trim().toLowerCase().max(254).pipe(z.email('Enter a valid e-mail address'))
+
+/** PUT /api/products/[code]/alerting and the alerting form. */
+export const alertingSchema = z.object({
+  lastN: z.number().int('Whole units only').min(1, 'At least 1 unit').max(10_000),
+  minYieldPct: z.number().min(0, '0 to 100 %').max(100, '0 to 100 %'),
+  enabled: z.boolean(),
+  subscribers: z
+    .array(email)
+    .max(MAX_SUBSCRIBERS, `At most ${MAX_SUBSCRIBERS} subscribers`)
+    .transform((list) => [...new Set(list)]),
+})
+export type AlertingInput = z.infer<typeof alertingSchema>
+export type AlertingView = z.output<typeof alertingSchema>
+
+/** GET /api/alerts query. */
+export const alertsQuerySchema = z.object({
+  open: z.enum(['true', 'false']).optional().transform((v) => (v === undefined ? undefined : v === 'true')),
+  product: z.string().trim().min(1).max(64).optional(),
+  limit: z.coerce.number().int().min(1).max(500).default(100),
+})
+
+/** POST /api/lots/[code]/send and its form. */
+export const sendLotReportSchema = z.object({
+  recipients: z.array(email).min(1, 'Name at least one recipient').max(MAX_RECIPIENTS, `At most ${MAX_RECIPIENTS} recipients`),
+  message: z.string().trim().max(4000).optional(),
+})
+export type SendLotReportInput = z.infer<typeof sendLotReportSchema>
+
+/** POST /api/lots/[code]/send answer. */
+export interface LotReportSent {
+  lotCode: string
+  recipients: string[]
+  /** Addresses the SMTP server accepted. */
+  accepted: string[]
+  messageId: string
+  attachment: string
+}
