@@ -1,0 +1,14 @@
+import type { MailboxList, MailboxMessage } from '#shared/types/mail'
+
+/** The local mail sink's messages (dev only, admins). */
+export function useDevMailbox() {
+  return useFetch<MailboxList>('/api/dev/mailbox', { key: 'dev-mailbox' })
+}
+
+/** One message of the local mailbox, fetched when `id` is set. */
+export function useDevMailboxMessage(id: Ref<string | null>) {
+  return useAsyncData<MailboxMessage | null>('dev-mailbox-message', () => (id.value ? $fetch<MailboxMessage>(`/api/dev/mailbox/${id.value}`) : Promise.resolve(null)), {
+    watch: [id],
+    default: () => null,
+  })
+}
