@@ -24,10 +24,19 @@ type Doc = InstanceType<typeof PDFDocument>
 const pct = (v: number | null) => (v === null ? '–' : `${(v * 100).toFixed(1)} %`)
 const num = (v: number | null, digits = 3) => (v === null || !Number.isFinite(v) ? '–' : Number(v.toPrecision(digits)).toString())
 
+/** Letters the built-in Helvetica (WinAnsi encoding) lacks, spelled out; anything else outside it becomes "?". */
+const SPELLED: Record<string, string> = { 'σ': ' sigma', 'Ω': 'ohm', '−': '-', '≥': '>=', '≤': '<=', '→': '->' }
+const WIN_ANSI_EXTRA = new Set('€‚ƒ„…†‡ˆ‰Š‹ŒŽ‘’“”•–—˜™š›œžŸ')
+
+export function toWinAnsi(text: string): string {
+  return [...text].map((ch) => SPELLED[ch] ?? (ch.charCodeAt(0) <= 0xff || WIN_ANSI_EXTRA.has(ch) ? ch : '?')).join('')
+}
+
 /** One line of text, cut with an ellipsis to the width, never wrapping onto a new page. */
 function line(doc: Doc, text: string, x: number, y: number, width: number, size = 10, color = INK, font = 'Helvetica') {
   doc.font(font).fontSize(size).fillColor(color)
-  let t = text
+  let t = toWinAnsi(text)
+  text = t
   while (t.length > 1 && doc.widthOfString(t) > width) t = t.slice(0, -2)
   if (t !== text) t = `${t.slice(0, -1)}…`
   doc.text(t, x, y, { lineBreak: false, width })
@@ -122,7 +131,7 @@ function distributionsPage(doc: Doc, r: LotReport) {
 
 function controlChart(doc: Doc, c: ControlChartView, x: number, y: number, w: number, h: number) {
   line(doc, `${c.label}${c.unit ? ` (${c.unit})` : ''}: individuals chart, limits from ${c.baseline === 'golden' ? 'the golden units' : 'the first in-control stretch'}`, x, y, w, 10, INK, 'Helvetica-Bold')
-  line(doc, `centre ${num(c.centre, 4)} · UCL ${num(c.ucl, 4)} · LCL ${num(c.lcl, 4)} · ${c.signals.length} flagged points`, x, y + 14, w, 8, MUTED)
+  line(doc, `centre ${num(c.centre, 4)} · UCL ${num(c.ucl, 4)} · LCL ${num(c.lcl, 4)} · ${c.signals.length} signals (red dots)`, x, y + 14, w, 8, MUTED)
   const top = y + 30
   const ch = h - 34
   const values = c.points.map((p) => p.value)

@@ -61,14 +61,14 @@ function figureOf(r: LotResultRow, f: ReportFigure): number | null {
   }
 }
 
-const failedChecks = (r: LotResultRow) => r.checks.filter((c) => !c.pass).map((c) => c.name)
+const failedChecks = (r: LotResultRow) => r.failedChecks.map((c) => c.name)
 
 function histories(units: readonly UnitResults[]): UnitHistory[] {
   return units.map((u) => ({ serial: u.serial, tests: u.results.map((r) => ({ verdict: r.verdict, failedChecks: failedChecks(r) })) }))
 }
 
 /** The failure class of a failed check: the check name, with the side for a figure with limits (`fsHz:high`). */
-export function failureClassOf(c: LotResultRow['checks'][number]): string {
+export function failureClassOf(c: LotResultRow['failedChecks'][number]): string {
   if (c.value !== null && c.high !== null && c.value > c.high) return `${c.name}:high`
   if (c.value !== null && c.low !== null && c.value < c.low) return `${c.name}:low`
   return c.name
@@ -84,7 +84,7 @@ function pareto(units: readonly UnitResults[], causes: readonly LikelyCause[]): 
   const p = failurePareto(histories(units), 'first')
   // The failure classes seen on the same basis (first results), to show the causes of the side that failed.
   const seen = new Set<string>()
-  for (const u of units) for (const c of u.results[0]!.checks) if (!c.pass) seen.add(failureClassOf(c))
+  for (const u of units) for (const c of u.results[0]!.failedChecks) seen.add(failureClassOf(c))
   return {
     basis: p.basis,
     unitsConsidered: p.unitsConsidered,
@@ -199,10 +199,10 @@ const lotView = (lot: LotRow): LotReport['lot'] => ({
  * first result against the active mask, and I-MR drift charts over production order.
  */
 export async function getLotReport(db: Knex, lotCode: string): Promise<LotReport | undefined> {
-  const loaded = await loadLot(db, lotCode)
-  if (!loaded) return undefined
-  const { lot, units } = loaded
-  const [mask, causes] = await Promise.all([getActiveMask(db, lot.productId), listCauses(db)])
+  const lot = await getLotByCode(db, lotCode)
+  if (!lot) return undefined
+  const [rows, mask, causes] = await Promise.all([listLotResults(db, lot.id), getActiveMask(db, lot.productId), listCauses(db)])
+  const units = groupByUnit(rows)
   const golden = mask ? await listGoldenFigures(db, mask.id) : []
   const y = computeYield(histories(units))
   const driftNotes: string[] = []
