@@ -62,7 +62,9 @@ export async function listLotResults(db: Knex, lotId: number): Promise<LotResult
       'u.id as unit_id', 'u.serial', 'res.id as result_id', 'r.uploaded_at', 'res.verdict',
       // Only the failed checks travel: most results pass, and parsing every check of a lot's results dominated the report's time.
       db.raw(`jsonb_path_query_array(res.checks, '$.checks[*] \\? (@.pass == false)') as failed_checks`),
-      'res.fs_hz', 'res.re20_ohm', 'res.re_ohm', 'res.qts', 'res.sensitivity_db', 'res.thd_max_pct', 'res.rub_buzz_db',
+      'res.fs_hz', 'res.re20_ohm', 'res.re_ohm', 'res.qts', 'res.sensitivity_db', 'res.rub_buzz_db',
+      // THD max as judged: a mask with a THD band reads it inside the band (the check's value), not over the whole sweep.
+      db.raw(`coalesce((jsonb_path_query_first(res.checks, '$.checks[*] \\? (@.name == "thdMaxPct").value'))::float8, res.thd_max_pct) as thd_max_pct`),
     )
   return rows.map((r) => ({
     unitId: Number(r.unit_id),
