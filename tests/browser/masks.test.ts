@@ -44,7 +44,7 @@ beforeAll(async () => {
   // Rated 6 Ω: the generated driver has Re ≈ 5.9 Ω, so its impedance minimum passes the 80 % rule.
   product = await makeProduct(unique('P'), 6)
   station = await makeStation()
-  for (let seed = 1; seed <= GOLDEN_COUNT; seed++) golden.push(await uploadUnit(300 + seed))
+  for (let seed = 1; seed <= GOLDEN_COUNT; seed++) golden.push(await uploadUnit(700 + seed))
   page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
   page.on('console', (m) => consoleLines.push(m.text()))
   page.on('pageerror', (e) => consoleLines.push(e.message))
@@ -185,7 +185,7 @@ describe('an engineer builds, previews and releases a mask', () => {
     const waiting = (await getRecording(baseUrl, { token: station.token }, golden[0]!.id)).body
     expect([waiting.verdict, waiting.maskVersion]).toEqual(['pass', view.version])
 
-    const fresh = await uploadUnit(399)
+    const fresh = await uploadUnit(798)
     expect(fresh).toMatchObject({ status: 'done', verdict: 'pass', maskVersion: view.version })
 
     await page.getByRole('link', { name: '← All masks' }).click()
@@ -243,7 +243,7 @@ describe('an engineer builds, previews and releases a mask', () => {
     await page.getByRole('button', { name: /^Retire v\d+…$/ }).click()
     await page.getByTestId('mask-retire-button').click()
     await expect.poll(statusText, { timeout: 20_000 }).toBe('Retired')
-    const unit = await uploadUnit(400)
+    const unit = await uploadUnit(799)
     expect(unit).toMatchObject({ status: 'done', verdict: null, maskVersion: null })
   })
 })

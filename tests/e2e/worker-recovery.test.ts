@@ -30,7 +30,7 @@ describe('an accepted upload is never lost', () => {
     workers.push(stalled)
     await stalled.ready
 
-    const up = await postRecording(host, tech, { serial: unique('KILL'), product: product.code, station: station.id }, { bytes: generateRecording({ seed: 301 }), name: 'k.wav' })
+    const up = await postRecording(host, tech, { serial: unique('KILL'), product: product.code, station: station.id }, { bytes: generateRecording({ seed: 201 }), name: 'k.wav' })
     expect(up.status).toBe(202)
     // The stalled worker has taken the job: the recording reads "analysing" and stays there.
     await expect.poll(async () => (await getRecording(host, tech, up.body.id)).body.status, { timeout: 15_000 }).toBe('analysing')
@@ -52,7 +52,7 @@ describe('an accepted upload is never lost', () => {
     for (const w of workers) await w.stop()
     const product = await makeProduct(unique('P'), 6)
     const station = await makeStation()
-    const up = await postRecording(host, tech, { serial: unique('LOST'), product: product.code, station: station.id }, { bytes: generateRecording({ seed: 302 }), name: 'l.wav' })
+    const up = await postRecording(host, tech, { serial: unique('LOST'), product: product.code, station: station.id }, { bytes: generateRecording({ seed: 202 }), name: 'l.wav' })
     expect(up.status).toBe(202)
     // Simulate storage trouble the worker cannot get past: the stored file disappears.
     const { storage_key: key } = await testDb()('recordings').where({ id: up.body.id }).first()
