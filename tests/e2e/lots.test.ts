@@ -8,7 +8,7 @@ import type { DashboardView, LikelyCause, LotReport, LotSummary } from '../../sh
 import type { RecordingView } from '../../shared/types/api'
 import { LOT_REPORT_PAGES } from '../../server/reports/pdf'
 import { signIn, useTestServer } from '../support/app'
-import { closeTestDb, makeProduct, makeStation, releaseTestMask, unique } from '../support/db'
+import { closeTestDb, makeProduct, makeStation, releaseTestMask, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
 
@@ -19,6 +19,8 @@ const host = await useTestServer()
  * - G1..G4: one good recording each: first pass;
  * - B1: inverted polarity (fails `polarity`), then retested with a good recording: passes finally;
  * - B2: inverted polarity, never retested.
+ * - G4 also has a later return test (inverted polarity, marked as a return test in the database, as
+ *   the returns desk will): it never counts in production yield (glossary: "return test").
  * Units tested 6; first-pass yield 4/6; final yield 5/6; retest rate 1/6;
  * Pareto of first results: `polarity` 2 units, "any" 2 of 6.
  */
@@ -31,6 +33,7 @@ const PLAN: { name: string; tests: { seed: number; defect: Defect }[] }[] = [
   { name: 'G4', tests: [{ seed: 306, defect: 'none' }] },
 ]
 const RETEST = { unit: 'B1', seed: 307, defect: 'none' as Defect }
+const RETURN_TEST = { unit: 'G4', seed: 308, defect: 'inverted_polarity' as Defect }
 
 let worker: RunningWorker
 const cookies: Record<string, string> = {}
@@ -73,7 +76,10 @@ beforeAll(async () => {
   }
   const retestId = await upload(RETEST.unit, RETEST.seed, RETEST.defect)
   for (const u of PLAN) firstViews[u.name] = await waitFinished(host, tech, firstIds[u.name]!)
+  const returnId = await upload(RETURN_TEST.unit, RETURN_TEST.seed, RETURN_TEST.defect)
+  await testDb()('recordings').where({ id: returnId }).update({ is_return_test: true })
   const retest = await waitFinished(host, tech, retestId)
+  expect((await waitFinished(host, tech, returnId)).verdict).toBe('fail')
   // Preconditions of the known answers: the generator's defect fails polarity and nothing else; good ones pass.
   for (const u of PLAN) {
     const v = firstViews[u.name]!
@@ -193,6 +199,8 @@ describe('exports', () => {
     expect(row('B1')).toMatchObject({ product: product.code, lot: lotCode, tests: '2', first_verdict: 'fail', final_verdict: 'pass', failed_checks: '' })
     expect(row('B2')).toMatchObject({ tests: '1', first_verdict: 'fail', final_verdict: 'fail', failed_checks: 'polarity' })
     expect(row('G1')).toMatchObject({ tests: '1', first_verdict: 'pass', final_verdict: 'pass' })
+    // G4's failed return test is not a production test.
+    expect(row('G4')).toMatchObject({ tests: '1', first_verdict: 'pass', final_verdict: 'pass', failed_checks: '' })
     expect(Number(row('G1').fs_hz)).toBeCloseTo(firstViews.G1!.parameters!.fsHz!, 9)
   })
 
