@@ -7,6 +7,8 @@ import { SEEDED_CAUSES } from '../../migrations/20261202050000_likely_causes'
 import type { DashboardView, LikelyCause, LotReport, LotSummary } from '../../shared/types/reports'
 import type { RecordingView } from '../../shared/types/api'
 import { LOT_REPORT_PAGES } from '../../server/reports/pdf'
+import { createMaskDraft, releaseMask } from '../../server/repos/masks'
+import type { MaskLimitsInput } from '../../shared/utils/mask'
 import { signIn, useTestServer } from '../support/app'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
@@ -38,6 +40,13 @@ const RETURN_TEST = { unit: 'G4', seed: 308, defect: 'inverted_polarity' as Defe
 let worker: RunningWorker
 const cookies: Record<string, string> = {}
 let product: { id: number; code: string }
+/** Limits wide enough for any healthy unit of the test driver; the fixed checks (coil, polarity) still apply. */
+const MASK_LIMITS: MaskLimitsInput = {
+  scalars: { fsHz: { low: 20, high: 80 }, re20Ohm: { low: 4, high: 8 }, rubBuzzDb: { low: null, high: -50 } },
+  polarityNormal: true,
+  ratedImpedanceRule: true,
+  curves: {},
+}
 const lotCode = unique('LOT')
 const serials: Record<string, string> = {}
 /** Each unit's first production recording, as the analysis saw it. */
@@ -52,12 +61,7 @@ beforeAll(async () => {
   // Rated 6 Ω: the generator's driver (Re ≈ 5.9 Ω) passes the IEC 60268-5 80 % rule only at 6 Ω or less (see recordings.test.ts).
   product = await makeProduct(unique('P'), 6)
   const station = await makeStation()
-  await releaseTestMask(product.id, {
-    scalars: { fsHz: { low: 20, high: 80 }, re20Ohm: { low: 4, high: 8 }, rubBuzzDb: { low: null, high: -50 } },
-    polarityNormal: true,
-    ratedImpedanceRule: true,
-    curves: {},
-  })
+  await releaseTestMask(product.id, MASK_LIMITS)
   const tech = { cookie: cookies.technician! }
   const upload = async (unit: string, seed: number, defect: Defect) => {
     const up = await postRecording(
@@ -264,5 +268,42 @@ describe('likely causes', () => {
     expect((await put('engineer', 'bad class!', { causes: [] })).status).toBe(400)
     // Put the seeded text back for other files of the same run.
     expect((await put('engineer', 'polarity', { causes: ['Leads swapped'] })).status).toBe(200)
+  })
+})
+
+describe('drift with golden units', () => {
+  /** The lot report takes I-MR limits from the active mask's golden units once it has at least 5 (MIN_GOLDEN_FOR_BASELINE). */
+  const GOLDEN = ['G1', 'G2', 'G3', 'G4', 'B2']
+
+  it('charts Fs and Re over production order with limits from the golden units (Montgomery: x̄ ± 3·MR̄/d2, d2 = 1.128)', async () => {
+    const db = testDb()
+    // A released mask's golden units cannot change: a new version, golden units recorded while it is a draft (as the mask builder does).
+    const draft = await createMaskDraft(db, { productId: product.id, name: 'with golden units', limits: MASK_LIMITS, createdBy: null })
+    for (const name of GOLDEN) {
+      const unit = await db('units').where({ serial: serials[name] }).first('id')
+      await db('mask_golden').insert({ mask_id: draft, unit_id: unit.id, recording_id: firstViews[name]!.id, serial: serials[name] })
+    }
+    await releaseMask(db, draft, { by: null, comment: 'golden units for the drift test' })
+    const report = (await (await get(`/api/lots/${lotCode}`, 'engineer')).json()) as LotReport
+    expect(report.maskVersion).toBe(2)
+    expect(report.drift.map((c) => c.figure)).toEqual(['fsHz', 're20Ohm'])
+    expect(report.driftNotes).toEqual([])
+    const fs = report.drift[0]!
+    expect(fs.baseline).toBe('golden')
+    // Production order: each unit's first production result, in upload order.
+    expect(fs.points.map((p) => p.serial)).toEqual(PLAN.map((u) => serials[u.name]))
+    expect(fs.points.map((p) => p.value)).toEqual(PLAN.map((u) => firstViews[u.name]!.parameters!.fsHz))
+    // Golden values in serial order (the order the limits are computed in), then the I-MR limits by hand.
+    const golden = GOLDEN.map((n) => ({ serial: serials[n]!, fs: firstViews[n]!.parameters!.fsHz! })).sort((a, b) => (a.serial < b.serial ? -1 : 1)).map((g) => g.fs)
+    const centre = golden.reduce((s, v) => s + v, 0) / golden.length
+    const mrBar = golden.slice(1).reduce((s, v, i) => s + Math.abs(v - golden[i]!), 0) / (golden.length - 1)
+    expect(fs.centre).toBeCloseTo(centre, 9)
+    expect(fs.mrBar).toBeCloseTo(mrBar, 9)
+    expect(fs.sigma).toBeCloseTo(mrBar / 1.128, 9)
+    expect(fs.ucl).toBeCloseTo(centre + (3 * mrBar) / 1.128, 9)
+    expect(fs.lcl).toBeCloseTo(centre - (3 * mrBar) / 1.128, 9)
+    // Every signal names a unit of the lot and has a warning for its rule.
+    for (const sig of fs.signals) expect(fs.points[sig.index]!.serial).toBe(sig.serial)
+    expect(fs.warnings.length).toBe(new Set(fs.signals.map((s) => s.rule)).size)
   })
 })
