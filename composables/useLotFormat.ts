@@ -10,8 +10,11 @@ export function lotPct(v: number | null | undefined): string {
 /** A measured figure with sensible decimals for its size, or a dash. */
 export function lotNum(v: number | null | undefined, digits?: number): string {
   if (typeof v !== 'number' || !Number.isFinite(v)) return '–'
-  const d = digits ?? (Math.abs(v) >= 100 ? 1 : Math.abs(v) >= 10 ? 2 : 3)
-  return v.toFixed(d)
+  if (digits !== undefined) return v.toFixed(digits)
+  const a = Math.abs(v)
+  // Small spreads (a standard deviation of 0.002) keep three significant digits instead of rounding to zero.
+  if (a !== 0 && a < 1) return v.toPrecision(3)
+  return v.toFixed(a >= 100 ? 1 : a >= 10 ? 2 : 3)
 }
 
 /** Date and local time of an ISO timestamp, e.g. 2026-03-04 14:03, or a dash. */
@@ -33,4 +36,9 @@ export function lotClassLabel(failureClass: string): string {
   const [check = '', side] = failureClass.split(':')
   const label = CHECK_LABELS[check]?.label ?? check
   return side ? `${label} ${side}` : label
+}
+
+/** Decimals that tell apart ticks `step` apart (at least `min`). */
+export function lotStepDigits(step: number, min = 0): number {
+  return step > 0 && Number.isFinite(step) ? Math.max(min, Math.ceil(-Math.log10(step)) + 1) : min
 }

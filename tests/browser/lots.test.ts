@@ -1,7 +1,7 @@
 import { join } from 'node:path'
 import type { Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { generateRecording } from '../../fixtures/generator'
+import { DEMO_DRIVER, generateRecording, mulberry32 } from '../../fixtures/generator'
 import { signInAs, useBrowser } from '../support/browser'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
@@ -18,20 +18,25 @@ const INVERTED = new Set([1, 3])
 let worker: RunningWorker
 let product: { id: number; code: string }
 let lot: string
+let station: { id: number; token: string }
+
+/** Uploads one generated recording into a lot and waits for its verdict. */
+async function record(lotCode: string, spec: Parameters<typeof generateRecording>[0]) {
+  const up = await postRecording(baseUrl, { token: station.token }, { serial: unique('LU'), product: product.code, lot: lotCode }, { bytes: generateRecording(spec), name: 'unit.wav' })
+  expect(up.status).toBe(202)
+  return waitFinished(baseUrl, { token: station.token }, up.body.id)
+}
 
 beforeAll(async () => {
   worker = startWorker()
   await worker.ready
   // Rated 6 Ω: the generated driver has Re ≈ 5.9 Ω. The mask checks polarity only.
   product = await makeProduct(unique('P'), 6)
-  const station = await makeStation(undefined, unique('LotSt'))
+  station = await makeStation(undefined, unique('LotSt'))
   await releaseTestMask(product.id, { scalars: {}, polarityNormal: true, curves: {} })
   lot = unique('LOT')
   for (let i = 0; i < UNITS; i++) {
-    const bytes = generateRecording({ seed: 300 + i, ...(INVERTED.has(i) ? { defect: 'inverted_polarity' as const } : {}) })
-    const up = await postRecording(baseUrl, { token: station.token }, { serial: unique('LU'), product: product.code, lot }, { bytes, name: `${i}.wav` })
-    expect(up.status).toBe(202)
-    const done = await waitFinished(baseUrl, { token: station.token }, up.body.id)
+    const done = await record(lot, { seed: 300 + i, ...(INVERTED.has(i) ? { defect: 'inverted_polarity' as const } : {}) })
     expect(done.verdict).toBe(INVERTED.has(i) ? 'fail' : 'pass')
   }
 }, 300_000)
@@ -151,4 +156,29 @@ describe('the lot pages', () => {
     expect(await row.textContent()).toMatch(/leads swapped/i)
     await page.close()
   })
+
+  it('draws the drift charts and warns when Re jumps late in a lot', async () => {
+    // 20 steady units give the control limits (the first in-control stretch); then Re rises by 5 %
+    // (a thinner wire), far beyond 3σ of a spread of a few hundredths of an ohm.
+    const drifting = unique('DRIFT')
+    const rand = mulberry32(7)
+    for (let i = 0; i < 24; i++) {
+      const reOhm = (i < 20 ? DEMO_DRIVER.reOhm : DEMO_DRIVER.reOhm * 1.05) + (rand() - 0.5) * 0.04
+      await record(drifting, { seed: 500 + i, driver: { ...DEMO_DRIVER, reOhm } })
+    }
+    const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
+    await signInAs(page, baseUrl, 'quality', `/lots/${drifting}`)
+    await page.getByTestId('lot-summary').waitFor()
+    // Limits need an in-control stretch: no note that the Re chart is missing.
+    expect((await page.getByTestId('drift-note').allTextContents()).filter((t) => t.startsWith('Re'))).toEqual([])
+    const fs = page.locator('[data-testid=lot-drift][data-figure=re20Ohm]')
+    expect(await fs.getByTestId('drift-warnings').locator('li').count()).toBeGreaterThan(0)
+    expect(await fs.textContent()).toMatch(/\d+ flagged points?/)
+    // The late units are flagged, the steady ones are not.
+    expect(await fs.locator('details li').first().textContent()).toMatch(/#2[1-4] /)
+    await fs.locator('canvas').first().waitFor()
+    await fs.scrollIntoViewIfNeeded()
+    if (shots) await page.screenshot({ path: join(shots, 'lot-drift.png'), fullPage: true })
+    await page.close()
+  }, 120_000)
 })
