@@ -215,33 +215,29 @@ export async function listDayYield(db: Knex, from: Date, to: Date): Promise<Line
 }
 
 /**
- * Open alerts, newest first, from the `alerts` table when it exists (it belongs to the alert rules,
- * added separately): [] without it. Columns are read by name with fallbacks, so this stays valid
- * while that table's shape settles.
+ * Open alerts, newest first, from the `alerts` table of the alert rules; [] when that table does not
+ * exist (the alert rules were added separately and may be absent from an older database).
  */
 export async function listOpenAlerts(db: Knex, limit = 50): Promise<AlertView[]> {
   const { rows: exists } = await db.raw(`SELECT to_regclass('public.alerts') IS NOT NULL AS present`)
   if (!exists[0]?.present) return []
-  const { rows } = await db.raw(
-    `SELECT to_jsonb(a) AS a, p.code AS product_code, l.code AS lot_code
-       FROM alerts a
-       LEFT JOIN products p ON p.id = (to_jsonb(a) ->> 'product_id')::bigint
-       LEFT JOIN lots l ON l.id = (to_jsonb(a) ->> 'lot_id')::bigint
-      WHERE (to_jsonb(a) ->> 'closed_at') IS NULL
-      LIMIT ?`,
-    [limit],
+  const rows = await db('alerts as a')
+    .join('products as p', 'p.id', 'a.product_id')
+    .leftJoin('lots as l', 'l.id', 'a.lot_id')
+    .whereNull('a.closed_at')
+    .orderBy([{ column: 'a.opened_at', order: 'desc' }, { column: 'a.id', order: 'desc' }])
+    .limit(limit)
+    .select('a.id', 'p.code as product_code', 'l.code as lot_code', 'a.kind', 'a.message', 'a.opened_at', 'a.closed_at', 'a.mailed_at')
+  return rows.map(
+    (r: { id: string; product_code: string; lot_code: string | null; kind: AlertView['kind']; message: string; opened_at: Date; closed_at: Date | null; mailed_at: Date | null }): AlertView => ({
+      id: Number(r.id),
+      productCode: r.product_code,
+      lotCode: r.lot_code,
+      kind: r.kind,
+      message: r.message,
+      openedAt: r.opened_at.toISOString(),
+      closedAt: r.closed_at ? r.closed_at.toISOString() : null,
+      mailedAt: r.mailed_at ? r.mailed_at.toISOString() : null,
+    }),
   )
-  const iso = (v: unknown) => (v ? new Date(String(v)).toISOString() : null)
-  return rows
-    .map((r: { a: Record<string, unknown>; product_code: string | null; lot_code: string | null }): AlertView => ({
-      id: Number(r.a.id),
-      productCode: r.product_code ?? String(r.a.product_code ?? ''),
-      lotCode: r.lot_code ?? ((r.a.lot_code as string | undefined) ?? null),
-      kind: r.a.kind === 'drift' ? 'drift' : 'low_yield',
-      message: String(r.a.message ?? ''),
-      openedAt: iso(r.a.opened_at ?? r.a.created_at) ?? new Date(0).toISOString(),
-      closedAt: null,
-      mailedAt: iso(r.a.mailed_at),
-    }))
-    .sort((a: AlertView, b: AlertView) => b.openedAt.localeCompare(a.openedAt))
 }

@@ -185,7 +185,17 @@ describe('lot list and dashboard', () => {
     // Each unit counted once by its latest judged result of the day: B1's retest passed, B2 failed.
     expect(dash.byLineProduct.find((r) => r.productCode === product.code)).toEqual({ line: 'Test line', productCode: product.code, unitsTested: 6, passed: 5, failed: 1, yield: 5 / 6 })
     expect(dash.openLots.map((l) => l.code)).toContain(lotCode)
-    expect(Array.isArray(dash.alerts)).toBe(true)
+    // Alerts come from the alert rules' table: an open one for this lot is listed with its product and lot codes.
+    const db = testDb()
+    const lot = await db('lots').where({ code: lotCode }).first('id')
+    await db('alerts')
+      .insert({ product_id: product.id, lot_id: lot.id, kind: 'drift', episode: 1, message: 'test alert', mailed_at: db.fn.now() })
+      .onConflict(db.raw('(product_id, coalesce(lot_id, 0), kind) WHERE closed_at IS NULL'))
+      .ignore()
+    const withAlert = (await (await get(`/api/dashboard?day=${day}`, 'quality')).json()) as DashboardView
+    expect(withAlert.alerts.filter((a) => a.lotCode === lotCode && a.kind === 'drift')).toEqual([
+      expect.objectContaining({ productCode: product.code, lotCode, kind: 'drift', closedAt: null }),
+    ])
     expect((await get('/api/dashboard', 'technician')).status).toBe(403)
   })
 })
