@@ -18,8 +18,9 @@ export function useCauseEditor() {
     try {
       const url: string = `/api/causes/${encodeURIComponent(failureClass)}`
       await $fetch(url, { method: 'PUT', body: { label, causes } })
-      await refreshNuxtData('causes')
+      // Saved is saved: say so at once, then bring the table up to date.
       saved.value = failureClass
+      await refreshNuxtData('causes')
       return true
     } catch (err) {
       error.value = apiErrorOf(err).message

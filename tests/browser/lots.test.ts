@@ -36,7 +36,7 @@ beforeAll(async () => {
   await releaseTestMask(product.id, { scalars: {}, polarityNormal: true, curves: {} })
   lot = unique('LOT')
   for (let i = 0; i < UNITS; i++) {
-    const done = await record(lot, { seed: 300 + i, ...(INVERTED.has(i) ? { defect: 'inverted_polarity' as const } : {}) })
+    const done = await record(lot, { seed: 800 + i, ...(INVERTED.has(i) ? { defect: 'inverted_polarity' as const } : {}) })
     expect(done.verdict).toBe(INVERTED.has(i) ? 'fail' : 'pass')
   }
 }, 300_000)
@@ -143,16 +143,22 @@ describe('the lot pages', () => {
     const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
     await signInAs(page, baseUrl, 'engineer', '/causes')
     await hydrated(page)
+    // The page's own data requests settle first, so the edit form is not re-rendered under the test.
+    await page.waitForLoadState('networkidle')
     const row = page.locator('[data-testid=cause-row][data-class=polarity]')
     await row.getByRole('button', { name: /Edit/ }).click()
     const extra = `Terminal labels printed reversed ${unique('X')}`
     const area = row.locator('textarea[name=cause-causes]')
     await area.fill(`${await area.inputValue()}\n${extra}`)
-    await row.getByRole('button', { name: 'Save' }).click()
+    const [put] = await Promise.all([
+      page.waitForResponse((r) => r.request().method() === 'PUT' && r.url().includes('/api/causes/polarity')),
+      row.getByRole('button', { name: 'Save' }).click(),
+    ])
+    expect(put.status()).toBe(200)
     await page.locator('[role=status], [role=alert]').first().waitFor()
     if (shots) await shot(page, 'causes-saved')
     expect(await page.getByRole('alert').count()).toBe(0)
-    expect(await row.textContent()).toContain(extra)
+    await expect.poll(() => row.textContent(), { timeout: 10_000 }).toContain(extra)
     expect(await row.textContent()).toMatch(/leads swapped/i)
     await page.close()
   })
@@ -164,7 +170,7 @@ describe('the lot pages', () => {
     const rand = mulberry32(7)
     for (let i = 0; i < 24; i++) {
       const reOhm = (i < 20 ? DEMO_DRIVER.reOhm : DEMO_DRIVER.reOhm * 1.05) + (rand() - 0.5) * 0.04
-      await record(drifting, { seed: 500 + i, driver: { ...DEMO_DRIVER, reOhm } })
+      await record(drifting, { seed: 900 + i, driver: { ...DEMO_DRIVER, reOhm } })
     }
     const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
     await signInAs(page, baseUrl, 'quality', `/lots/${drifting}`)
