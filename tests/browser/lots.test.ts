@@ -149,7 +149,9 @@ describe('the lot pages', () => {
     await row.getByRole('button', { name: /Edit/ }).click()
     const extra = `Terminal labels printed reversed ${unique('X')}`
     const area = row.locator('textarea[name=cause-causes]')
-    await area.fill(`${await area.inputValue()}\n${extra}`)
+    const seeded = await area.inputValue()
+    const label = await row.locator('input[name=cause-label]').inputValue()
+    await area.fill(`${seeded}\n${extra}`)
     const [put] = await Promise.all([
       page.waitForResponse((r) => r.request().method() === 'PUT' && r.url().includes('/api/causes/polarity')),
       row.getByRole('button', { name: 'Save' }).click(),
@@ -160,6 +162,12 @@ describe('the lot pages', () => {
     expect(await page.getByRole('alert').count()).toBe(0)
     await expect.poll(() => row.textContent(), { timeout: 10_000 }).toContain(extra)
     expect(await row.textContent()).toMatch(/leads swapped/i)
+    // Put the seeded text back: the table is shared by every test file of the run.
+    const restored = await page.evaluate<number, string>(
+      async (body) => (await fetch('/api/causes/polarity', { method: 'PUT', headers: { 'content-type': 'application/json' }, body })).status,
+      JSON.stringify({ label, causes: seeded.split('\n').filter(Boolean) }),
+    )
+    expect(restored).toBe(200)
     await page.close()
   })
 
