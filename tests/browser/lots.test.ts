@@ -70,6 +70,17 @@ describe('the lot pages', () => {
     expect(await row.locator('td').nth(2).textContent()).toContain(String(UNITS))
     await shot(page, 'lots-list')
 
+    // The product's alert rule: quality subscribes an address and sets the threshold.
+    const alerting = page.getByTestId('lot-alerting')
+    await alerting.locator('textarea[name=alert-subscribers]').waitFor()
+    await alerting.locator('input[name=alert-min-yield]').fill('85')
+    await alerting.locator('textarea[name=alert-subscribers]').fill('line.lead@example.test\nQuality.Desk@example.test')
+    await alerting.getByRole('button', { name: 'Save alert rule' }).click()
+    await expect.poll(() => alerting.getByRole('status').count()).toBe(1)
+    const rule = await page.evaluate<{ minYieldPct: number; subscribers: string[] }, string>(async (u) => (await fetch(u)).json(), `/api/products/${product.code}/alerting`)
+    expect(rule.minYieldPct).toBe(85)
+    expect(rule.subscribers.sort()).toEqual(['line.lead@example.test', 'quality.desk@example.test'])
+
     await row.getByRole('link', { name: `Report of lot ${lot}` }).click()
     await page.waitForURL((u) => u.pathname === `/lots/${lot}`)
     await page.getByTestId('lot-summary').waitFor()
