@@ -1,5 +1,5 @@
 import type { Knex } from 'knex'
-import type { AlertView, LotSummary } from '../../shared/types/reports.ts'
+import type { LotSummary } from '../../shared/types/reports.ts'
 
 export interface LotRow {
   id: number
@@ -214,30 +214,3 @@ export async function listDayYield(db: Knex, from: Date, to: Date): Promise<Line
   }))
 }
 
-/**
- * Open alerts, newest first, from the `alerts` table of the alert rules; [] when that table does not
- * exist (the alert rules were added separately and may be absent from an older database).
- */
-export async function listOpenAlerts(db: Knex, limit = 50): Promise<AlertView[]> {
-  const { rows: exists } = await db.raw(`SELECT to_regclass('public.alerts') IS NOT NULL AS present`)
-  if (!exists[0]?.present) return []
-  const rows = await db('alerts as a')
-    .join('products as p', 'p.id', 'a.product_id')
-    .leftJoin('lots as l', 'l.id', 'a.lot_id')
-    .whereNull('a.closed_at')
-    .orderBy([{ column: 'a.opened_at', order: 'desc' }, { column: 'a.id', order: 'desc' }])
-    .limit(limit)
-    .select('a.id', 'p.code as product_code', 'l.code as lot_code', 'a.kind', 'a.message', 'a.opened_at', 'a.closed_at', 'a.mailed_at')
-  return rows.map(
-    (r: { id: string; product_code: string; lot_code: string | null; kind: AlertView['kind']; message: string; opened_at: Date; closed_at: Date | null; mailed_at: Date | null }): AlertView => ({
-      id: Number(r.id),
-      productCode: r.product_code,
-      lotCode: r.lot_code,
-      kind: r.kind,
-      message: r.message,
-      openedAt: r.opened_at.toISOString(),
-      closedAt: r.closed_at ? r.closed_at.toISOString() : null,
-      mailedAt: r.mailed_at ? r.mailed_at.toISOString() : null,
-    }),
-  )
-}
