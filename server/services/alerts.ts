@@ -96,6 +96,8 @@ export async function setAlerting(db: Knex, productId: number, input: AlertingIn
         .onConflict(['product_id', 'email'])
         .ignore()
     }
+    // Switching alerts off ends the product's open episodes: nobody is watching them any more.
+    if (!input.enabled) await trx('alerts').where({ product_id: productId }).whereNull('closed_at').update({ closed_at: trx.fn.now() })
   })
   return getAlerting(db, productId)
 }

@@ -156,6 +156,11 @@ describe('low-yield alert: once per episode', () => {
     expect(second.text).toContain('episode 2')
     await new Promise((r) => setTimeout(r, SETTLE_MS))
     expect(alertMails()).toHaveLength(2)
+
+    // Switching the product's alerts off ends the open episode.
+    const off = await api(`/api/products/${product.code}/alerting`, 'quality', { method: 'PUT', body: { lastN: 5, minYieldPct: 80, enabled: false, subscribers: SUBSCRIBERS } })
+    expect(off.status).toBe(200)
+    expect((await lowYieldAlerts()).every((a) => a.closed_at !== null)).toBe(true)
   }, 120_000)
 })
 
