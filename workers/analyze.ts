@@ -6,7 +6,9 @@
  * A job whose worker dies is expired by pg-boss and retried by another (or the restarted) worker;
  * a recording that keeps failing ends `failed` with its error.
  */
-import knex from 'knex'
+import { resolve } from 'node:path'
+import { fileURLToPath } from 'node:url'
+import knex, { type Knex } from 'knex'
 import type PgBoss from 'pg-boss'
 import { knexConfig } from '../knexfile'
 import { loadConfig } from '../server/utils/config'
@@ -16,55 +18,90 @@ import { processRecording } from '../server/services/analyse'
 import { evaluateAlerts } from '../server/services/alerts'
 import { directoryStorage } from '../server/storage/recordings'
 
-const cfg = loadConfig()
-const db = knex(knexConfig(cfg.databaseUrl))
-const storage = directoryStorage(cfg.dataDir)
-const boss = createBoss(cfg.databaseUrl, { supervise: true })
-const concurrency = Math.max(1, Number(process.env.CONETRAIL_WORKER_CONCURRENCY) || 2)
 /** Jobs fetched per poll: pg-boss waits its polling interval between fetches, so one job a fetch would cap throughput. */
 const BATCH_SIZE = 8
-// Test hook only: hang on every job, so a test can kill the worker mid-job.
-const hangForTest = process.env.CONETRAIL_WORKER_HANG === '1'
+/** How often a worker looks for recordings whose job the queue gave up on. */
+const ORPHAN_SWEEP_MS = 60_000
+
+/**
+ * Points where a test entry (tests/support/worker-entry.ts) can stall the worker, so a test can
+ * kill it at a chosen moment. The production entry passes none.
+ */
+export interface WorkerHooks {
+  /** Before the recording is analysed (the job is taken, nothing written yet). */
+  beforeJob?: (recordingId: number, db: Knex) => Promise<void>
+  /** After the result is saved, before the queue hears the job is complete. */
+  afterResult?: (recordingId: number, db: Knex) => Promise<void>
+}
 
 function log(msg: string) {
   console.log(`[worker ${process.pid}] ${msg}`)
 }
 
-async function handle(job: PgBoss.JobWithMetadata<AnalyseJob>) {
-  const id = job.data.recordingId
-  if (hangForTest) {
-    await db('recordings').where({ id }).update({ status: 'analysing' })
-    await new Promise(() => {})
-  }
-  try {
-    const outcome = await processRecording(db, storage, id)
-    if (outcome !== 'skipped') log(`recording ${id}: ${outcome}`)
-    if (outcome === 'done') await checkAlerts(id)
-  } catch (err) {
-    const message = err instanceof Error ? err.message : String(err)
-    if (job.retryCount >= job.retryLimit) {
-      await markFinishedWithError(db, id, 'failed', 'analysis_failed', message)
-      log(`recording ${id}: failed for good after ${job.retryCount + 1} tries: ${message}`)
-      return
+/** Starts the analysis worker in this process: listens for jobs until SIGINT/SIGTERM. */
+export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
+  const cfg = loadConfig()
+  const db = knex(knexConfig(cfg.databaseUrl))
+  const storage = directoryStorage(cfg.dataDir)
+  const boss = createBoss(cfg.databaseUrl, { supervise: true })
+  const concurrency = Math.max(1, Number(process.env.CONETRAIL_WORKER_CONCURRENCY) || 2)
+
+  async function handle(job: PgBoss.JobWithMetadata<AnalyseJob>) {
+    const id = job.data.recordingId
+    await hooks.beforeJob?.(id, db)
+    try {
+      const outcome = await processRecording(db, storage, id)
+      if (outcome !== 'skipped') log(`recording ${id}: ${outcome}`)
+      if (outcome === 'done') {
+        await hooks.afterResult?.(id, db)
+        await checkAlerts(id)
+      }
+    } catch (err) {
+      const message = err instanceof Error ? err.message : String(err)
+      if (job.retryCount >= job.retryLimit) {
+        await markFinishedWithError(db, id, 'failed', 'analysis_failed', message)
+        log(`recording ${id}: failed for good after ${job.retryCount + 1} tries: ${message}`)
+        return
+      }
+      log(`recording ${id}: try ${job.retryCount + 1} failed, will retry: ${message}`)
+      // Only this job goes back to the queue; the others of its batch complete normally.
+      await boss.fail(ANALYSE_QUEUE, job.id, { message })
     }
-    log(`recording ${id}: try ${job.retryCount + 1} failed, will retry: ${message}`)
-    // Only this job goes back to the queue; the others of its batch complete normally.
-    await boss.fail(ANALYSE_QUEUE, job.id, { message })
   }
-}
 
-/** Alert rules after a saved result. Never throws: an alert or mail failure must not fail (or retry) the analysis. */
-async function checkAlerts(recordingId: number) {
-  try {
-    const rec = await db('recordings').where({ id: recordingId }).first('unit_id')
-    if (!rec) return
-    for (const c of await evaluateAlerts(db, { unitId: Number(rec.unit_id) }, { log })) log(`alert ${c.alertId} (${c.kind}): ${c.change}`)
-  } catch (err) {
-    log(`alerts after recording ${recordingId}: ${err instanceof Error ? err.message : String(err)}`)
+  /** Alert rules after a saved result. Never throws: an alert or mail failure must not fail (or retry) the analysis. */
+  async function checkAlerts(recordingId: number) {
+    try {
+      const rec = await db('recordings').where({ id: recordingId }).first('unit_id')
+      if (!rec) return
+      for (const c of await evaluateAlerts(db, { unitId: Number(rec.unit_id) }, { log })) log(`alert ${c.alertId} (${c.kind}): ${c.change}`)
+    } catch (err) {
+      log(`alerts after recording ${recordingId}: ${err instanceof Error ? err.message : String(err)}`)
+    }
   }
-}
 
-async function main() {
+  async function sweepOrphans() {
+    try {
+      const n = await failOrphanedRecordings(db, ANALYSE_QUEUE)
+      if (n) log(`${n} recording(s) whose analysis stopped for good marked failed`)
+    } catch (err) {
+      log(`orphan sweep: ${err instanceof Error ? err.message : String(err)}`)
+    }
+  }
+
+  let stopping = false
+  async function stop() {
+    if (stopping) return
+    stopping = true
+    await boss.stop({ graceful: true, wait: true, timeout: 10_000 }).catch(() => {})
+    await db.destroy()
+    process.exit(0)
+  }
+  process.on('SIGINT', stop)
+  process.on('SIGTERM', stop)
+
+  // pg-boss reports a lost database connection here and keeps polling: once PostgreSQL is back
+  // (a restart, a failover), the pools reconnect and work resumes without restarting the worker.
   boss.on('error', (err) => log(`queue error: ${err.message}`))
   await boss.start()
   await ensureQueue(boss)
@@ -78,30 +115,9 @@ async function main() {
   log(`waiting for recordings (${concurrency} at a time)`)
 }
 
-/** How often a worker looks for recordings whose job the queue gave up on. */
-const ORPHAN_SWEEP_MS = 60_000
-
-async function sweepOrphans() {
-  try {
-    const n = await failOrphanedRecordings(db, ANALYSE_QUEUE)
-    if (n) log(`${n} recording(s) whose analysis stopped for good marked failed`)
-  } catch (err) {
-    log(`orphan sweep: ${err instanceof Error ? err.message : String(err)}`)
-  }
+if (resolve(process.argv[1] ?? '') === fileURLToPath(import.meta.url)) {
+  runAnalyzeWorker().catch((err: unknown) => {
+    log(`cannot start: ${err instanceof Error ? err.message : String(err)}`)
+    process.exit(1)
+  })
 }
-
-let stopping = false
-async function stop() {
-  if (stopping) return
-  stopping = true
-  await boss.stop({ graceful: true, wait: true, timeout: 10_000 }).catch(() => {})
-  await db.destroy()
-  process.exit(0)
-}
-process.on('SIGINT', stop)
-process.on('SIGTERM', stop)
-
-main().catch((err: unknown) => {
-  log(`cannot start: ${err instanceof Error ? err.message : String(err)}`)
-  process.exit(1)
-})

@@ -1,4 +1,5 @@
 import type { HealthResponse } from '../../shared/types/api'
+import { RETRY_AFTER_S } from '../utils/errors'
 
 const DB_TIMEOUT_MS = 2000
 
@@ -20,6 +21,10 @@ export default defineEventHandler(async (event) => {
     version,
     database: { ok: dbOk, latencyMs: dbOk ? Math.round((performance.now() - started) * 10) / 10 : null },
   } satisfies HealthResponse
-  if (!dbOk) setResponseStatus(event, 503)
+  if (!dbOk) {
+    // A load balancer takes this server out of rotation; a station waits and sends again.
+    setResponseStatus(event, 503)
+    setResponseHeader(event, 'retry-after', RETRY_AFTER_S)
+  }
   return body
 })

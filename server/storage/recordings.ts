@@ -21,6 +21,31 @@ export function newStorageKey(sha256: string, kind: 'sweep' | 'impedance_table',
   return `${y}/${m}/${randomUUID()}-${sha256.slice(0, 12)}.${ext}`
 }
 
+/** errno codes that mean the store cannot take a file now (full, read-only, not a folder, no permission). */
+export const STORAGE_FAULT_CODES = ['ENOSPC', 'EDQUOT', 'EROFS', 'EACCES', 'EPERM', 'ENOTDIR', 'EEXIST', 'EISDIR', 'EIO'] as const
+
+/** The store cannot take the file (disk full, read-only, wrong permissions): nothing was stored. */
+export class StorageUnavailable extends Error {
+  readonly code = 'storage_unavailable'
+  constructor(
+    /** The operating system's errno code, e.g. ENOSPC. */
+    readonly errno: string,
+    message: string,
+  ) {
+    super(message)
+    this.name = 'StorageUnavailable'
+  }
+}
+
+/** Turns a file-system error of the store into StorageUnavailable; other errors come back unchanged. */
+export function asStorageFault(err: unknown): unknown {
+  const code = (err as NodeJS.ErrnoException | undefined)?.code
+  if (typeof code === 'string' && (STORAGE_FAULT_CODES as readonly string[]).includes(code)) {
+    return new StorageUnavailable(code, `The recording store cannot take the file (${code}); ask an administrator to check the storage folder's space and permissions`)
+  }
+  return err
+}
+
 export class DirectoryStorage implements RecordingStorage {
   constructor(private readonly root: string) {}
 
@@ -30,8 +55,21 @@ export class DirectoryStorage implements RecordingStorage {
     return p
   }
 
+  /**
+   * @throws StorageUnavailable when the folder is full, read-only, not writable or not a folder;
+   *   the destination is removed again, so a failed put leaves no partial file behind.
+   */
   async putFile(key: string, fromPath: string): Promise<void> {
     const dest = this.pathOf(key)
+    try {
+      await this.put(dest, fromPath)
+    } catch (err) {
+      await rm(dest, { force: true }).catch(() => {})
+      throw asStorageFault(err)
+    }
+  }
+
+  private async put(dest: string, fromPath: string): Promise<void> {
     await mkdir(dirname(dest), { recursive: true })
     try {
       await rename(fromPath, dest)

@@ -8,6 +8,8 @@ import { ProductConflict } from '../repos/products'
 import { StationConflict } from '../repos/stations'
 import { GoldenError } from '../services/masks'
 import { ProposeError } from '../verdict/propose'
+import { StorageUnavailable } from '../storage/recordings'
+import { isDatabaseUnavailable } from './db'
 
 const STATUS_TEXT: Record<number, string> = {
   400: 'Bad Request',
@@ -19,6 +21,7 @@ const STATUS_TEXT: Record<number, string> = {
   415: 'Unsupported Media Type',
   422: 'Unprocessable Content',
   503: 'Service Unavailable',
+  507: 'Insufficient Storage',
 }
 
 /** An HTTP error with a readable message and a machine code in data.code (the only kind routes raise). */
@@ -52,6 +55,9 @@ export function zodValidator<T>(schema: { parse: (v: unknown) => T }) {
   }
 }
 
+/** Seconds a client should wait before retrying after a 503. */
+export const RETRY_AFTER_S = 2
+
 /** The one mapper from typed domain errors to HTTP errors; anything unknown is rethrown as it is. */
 export function toHttpError(err: unknown): unknown {
   if (err instanceof UploadRefused) return httpError(err.status, err.code, err.message)
@@ -62,6 +68,12 @@ export function toHttpError(err: unknown): unknown {
   if (err instanceof ProposeError) return httpError(422, err.code, err.message)
   if (err instanceof ProductConflict) return httpError(409, err.code, err.message, { field: err.field })
   if (err instanceof StationConflict) return httpError(409, err.code, err.message)
+  // Nothing was stored: the station keeps its file and tries again later (or an administrator frees space).
+  if (err instanceof StorageUnavailable) return httpError(507, err.code, err.message, { errno: err.errno })
+  // PostgreSQL restarting or unreachable: nothing was committed, so the same upload can simply be sent again.
+  if (isDatabaseUnavailable(err)) {
+    return httpError(503, 'database_unavailable', 'The database is not reachable right now; try again in a few seconds', { retryAfterS: RETRY_AFTER_S })
+  }
   return err
 }
 
