@@ -60,6 +60,7 @@ function summaryPage(doc: Doc, r: LotReport) {
     ['First-pass yield', `${pct(s.firstPassYield)} (${s.firstPassUnits} units)`],
     ['Final yield', `${pct(s.finalYield)} (${s.finalPassUnits} units)`],
     ['Retest rate', `${pct(s.retestRate)} (${s.retestedUnits} units)`],
+    ['Return rate', `${pct(s.returnRate)} (${s.returnedUnits} units returned, ${s.returns} returns)`],
   ]
   let y = 120
   for (const [k, v] of rows) {

@@ -21,6 +21,7 @@ export interface RecordingRow {
   ambient_c: number | null
   note: string | null
   is_return_test: boolean
+  return_id: string | null
 }
 
 export interface NewRecording {
@@ -35,6 +36,8 @@ export interface NewRecording {
   storageKey: string
   ambientC: number | null
   note: string | null
+  /** A return test (glossary) of this return: never counts in production yield. Set once, at insert. */
+  returnId?: number | null
 }
 
 export async function insertRecording(db: Knex, r: NewRecording): Promise<number> {
@@ -51,6 +54,7 @@ export async function insertRecording(db: Knex, r: NewRecording): Promise<number
       storage_key: r.storageKey,
       ambient_c: r.ambientC,
       note: r.note,
+      ...(r.returnId ? { return_id: r.returnId, is_return_test: true } : {}),
     })
     .returning('id')
   return Number(row.id)

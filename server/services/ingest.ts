@@ -5,6 +5,7 @@ import type PgBoss from 'pg-boss'
 import { AnalysisInputError, parseImpedanceTable, validateRecording, type StationProfile } from '../analysis/index.ts'
 import { enqueueAnalysis } from '../queue/index.ts'
 import { findRecordingByContent, findRecordingOfOtherUnit, insertRecording } from '../repos/recordings.ts'
+import { getReturnRow } from '../repos/returns.ts'
 import { getUnitBySerial, resolveUnit } from '../repos/units.ts'
 import { newStorageKey, type RecordingStorage } from '../storage/recordings.ts'
 import type { UploadFields } from '../../shared/utils/bench.ts'
@@ -28,6 +29,11 @@ export interface UploadSource {
   /** The station the upload is for (from its token, or chosen by the signed-in user), with its current profile. */
   station: { id: number; profileId: number; profile: StationProfile } | null
   userId: number | null
+  /**
+   * A return test (glossary): the recording is linked to this return, in the same transaction, and
+   * never counts in production yield. The serial must be the return's unit, and the return open.
+   */
+  returnId?: number
 }
 
 export interface UploadOutcome {
@@ -86,8 +92,18 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
     let stored = false
     try {
       return await db.transaction(async (trx) => {
+        // A return test: the return stays open (locked) until its recording row is in.
+        const ret = src.returnId === undefined ? undefined : await getReturnRow(trx, src.returnId, { forUpdate: true })
+        if (src.returnId !== undefined && !ret) throw new UploadRefused(404, 'unknown_return', `No return ${src.returnId}`)
+        if (ret && ret.status !== 'open') throw new UploadRefused(409, 'return_closed', `Return ${ret.id} is closed: nothing can be added to it`)
         const unit = await resolveUnit(trx, serial, product, lot)
+        if (ret && Number(unit.id) !== ret.unitId) {
+          throw new UploadRefused(422, 'wrong_unit', `Return ${ret.id} is for unit ${ret.serial}, not ${serial}`)
+        }
         const earlier = await findRecordingByContent(trx, Number(unit.id), sha256)
+        if (earlier && ret && Number(earlier.return_id) !== ret.id) {
+          throw new UploadRefused(409, 'already_uploaded', `This exact file was already uploaded for unit ${ret.serial}${earlier.is_return_test ? ' as a return test' : ' as its factory test'}: record the returned unit anew`)
+        }
         if (earlier) return { id: Number(earlier.id), status: earlier.status, duplicate: true }
         const elsewhere = await findRecordingOfOtherUnit(trx, Number(unit.id), sha256)
         if (elsewhere) {
@@ -105,6 +121,7 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
           storageKey: key,
           ambientC: ambientC ?? null,
           note: note ?? null,
+          returnId: ret?.id ?? null,
         })
         await storage.putFile(key, src.tempPath)
         stored = true

@@ -4,6 +4,7 @@ import { CHECK_LABELS, type MaskLimits } from '../../shared/utils/mask.ts'
 import { listCauses } from '../repos/causes.ts'
 import { getLotByCode, listGoldenFigures, listLotResults, listLotSummaries, type LotFilter, type LotResultRow, type LotRow } from '../repos/lots.ts'
 import { getActiveMask } from '../repos/masks.ts'
+import { countLotReturns } from '../repos/returns.ts'
 import {
   StatsError,
   capability,
@@ -201,7 +202,7 @@ const lotView = (lot: LotRow): LotReport['lot'] => ({
 export async function getLotReport(db: Knex, lotCode: string): Promise<LotReport | undefined> {
   const lot = await getLotByCode(db, lotCode)
   if (!lot) return undefined
-  const [rows, mask, causes] = await Promise.all([listLotResults(db, lot.id), getActiveMask(db, lot.productId), listCauses(db)])
+  const [rows, mask, causes, returns] = await Promise.all([listLotResults(db, lot.id), getActiveMask(db, lot.productId), listCauses(db), countLotReturns(db, lot.id)])
   const units = groupByUnit(rows)
   const golden = mask ? await listGoldenFigures(db, mask.id) : []
   const y = computeYield(histories(units))
@@ -219,6 +220,9 @@ export async function getLotReport(db: Knex, lotCode: string): Promise<LotReport
       firstPassUnits: y.firstPassUnits,
       finalPassUnits: y.finalPassUnits,
       retestedUnits: y.retestedUnits,
+      returns: returns.returns,
+      returnedUnits: returns.returnedUnits,
+      returnRate: y.unitsTested === 0 ? null : returns.returnedUnits / y.unitsTested,
     },
     pareto: pareto(units, causes),
     distributions: REPORT_FIGURES.map((f) => distribution(units, f, mask?.limits ?? null)),

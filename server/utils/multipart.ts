@@ -18,10 +18,12 @@ export interface ParsedUpload {
 
 /**
  * Streams a multipart/form-data body to a temporary file in the data directory (never into memory).
- * Text fields come back as strings; exactly one file field named `file` is taken.
+ * Text fields come back as strings; exactly one file field named `file` is taken. `maxBytes`
+ * (default: the recording limit, maxUploadBytes) lets a route take smaller files (attachments).
  * @throws 415 `not_multipart`, 413 `too_large`, 400 `bad_multipart`; temporary files are removed on error.
  */
-export async function readMultipartUpload(event: H3Event): Promise<ParsedUpload> {
+export async function readMultipartUpload(event: H3Event, opts: { maxBytes?: number } = {}): Promise<ParsedUpload> {
+  const maxBytes = opts.maxBytes ?? maxUploadBytes()
   const type = getHeader(event, 'content-type') ?? ''
   if (!type.toLowerCase().startsWith('multipart/form-data')) {
     throw httpError(415, 'not_multipart', 'Send the recording as multipart/form-data with a "file" field')
@@ -31,8 +33,8 @@ export async function readMultipartUpload(event: H3Event): Promise<ParsedUpload>
   const form = formidable({
     uploadDir,
     maxFiles: 1,
-    maxFileSize: maxUploadBytes(),
-    maxTotalFileSize: maxUploadBytes(),
+    maxFileSize: maxBytes,
+    maxTotalFileSize: maxBytes,
     maxFields: 20,
     maxFieldsSize: 64 * 1024,
     allowEmptyFiles: true,
@@ -54,7 +56,7 @@ export async function readMultipartUpload(event: H3Event): Promise<ParsedUpload>
     await Promise.all(written.map((p) => rm(p, { force: true })))
     const e = err as { code?: number; httpCode?: number; message?: string }
     if (e.httpCode === 413 || e.code === formidableErrors.biggerThanTotalMaxFileSize || e.code === formidableErrors.biggerThanMaxFileSize) {
-      throw httpError(413, 'too_large', `The file is larger than the ${Math.round(maxUploadBytes() / 1048576)} MB limit`)
+      throw httpError(413, 'too_large', `The file is larger than the ${Math.round(maxBytes / 1048576)} MB limit`)
     }
     throw httpError(400, 'bad_multipart', `The upload could not be read: ${e.message ?? 'malformed multipart body'}`)
   }

@@ -74,6 +74,10 @@ export interface LotReport {
     firstPassUnits: number
     finalPassUnits: number
     retestedUnits: number
+    /** Returns from the field of the lot's units; returnRate = returnedUnits / unitsTested (return tests never count in the yields above). */
+    returns: number
+    returnedUnits: number
+    returnRate: number | null
   }
   /** basis `first`: each unit's first result (the first-pass yield's loss); unitsConsidered: units whose first result is judged. */
   pareto: { basis: 'first' | 'final' | 'ever'; unitsConsidered: number; any: { units: number; fraction: number | null }; rows: ParetoRowView[] }
@@ -111,4 +115,6 @@ export interface DashboardView {
   byLineProduct: { line: string; productCode: string; unitsTested: number; passed: number; failed: number; yield: number | null }[]
   openLots: LotSummary[]
   alerts: AlertView[]
+  /** Products with returns from the field: returned units / units tested, all time. */
+  returnsByProduct: { productCode: string; unitsTested: number; returns: number; returnedUnits: number; returnRate: number | null }[]
 }

@@ -1,0 +1,16 @@
+import { editReturnCategory } from '../../services/returns'
+import { idParamSchema } from '../../../shared/utils/bench'
+import { returnCategoryPatchSchema } from '../../../shared/utils/returns'
+import type { ReturnCategoryView } from '../../../shared/types/returns'
+
+/** Rename, reorder, or deactivate (a category is never deleted: returns keep theirs). */
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'admin')
+  const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
+  const change = await readValidatedBody(event, zodValidator(returnCategoryPatchSchema))
+  try {
+    return (await editReturnCategory(useDb(), id, change)) satisfies ReturnCategoryView
+  } catch (err) {
+    throw toHttpError(err)
+  }
+})

@@ -1,0 +1,15 @@
+import { addReturnCategory } from '../../services/returns'
+import { returnCategoryCreateSchema } from '../../../shared/utils/returns'
+import type { ReturnCategoryView } from '../../../shared/types/returns'
+
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'admin')
+  const input = await readValidatedBody(event, zodValidator(returnCategoryCreateSchema))
+  try {
+    const created = await addReturnCategory(useDb(), input)
+    setResponseStatus(event, 201)
+    return created satisfies ReturnCategoryView
+  } catch (err) {
+    throw toHttpError(err)
+  }
+})

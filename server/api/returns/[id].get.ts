@@ -1,0 +1,13 @@
+import { getReturn } from '../../services/returns'
+import { idParamSchema } from '../../../shared/utils/bench'
+import type { ReturnView } from '../../../shared/types/returns'
+
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'support', 'quality', 'engineer')
+  const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
+  try {
+    return (await getReturn(useDb(), id)) satisfies ReturnView
+  } catch (err) {
+    throw toHttpError(err)
+  }
+})

@@ -1,0 +1,32 @@
+import { rm } from 'node:fs/promises'
+import { getStation } from '../../../repos/stations'
+import { retestReturn } from '../../../services/returns'
+import { idParamSchema } from '../../../../shared/utils/bench'
+import { returnRetestFieldsSchema } from '../../../../shared/utils/returns'
+import type { UploadAccepted } from '../../../../shared/types/api'
+
+/** A return test of the return's unit, through the production pipeline (202 queued; the same file again 200). */
+export default defineEventHandler(async (event) => {
+  const user = await requireRole(event, 'support', 'quality')
+  const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
+  const { fields, file } = await readMultipartUpload(event)
+  try {
+    const input = parseInput(returnRetestFieldsSchema, fields)
+    if (!file) throw httpError(400, 'missing_file', 'Attach the recording in a form field named "file"')
+    const station = input.station === undefined ? undefined : await getStation(useDb(), input.station)
+    if (input.station !== undefined && !station?.active) throw httpError(422, 'unknown_station', `No active station with id ${input.station}`)
+    const outcome = await retestReturn(useDb(), useRecordingStorage(), await useBoss(), id, {
+      tempPath: file.path,
+      originalName: file.originalName,
+      fields: input,
+      station: station ? { id: station.id, profileId: station.profileId, profile: station.profile } : null,
+      userId: user.id,
+    })
+    setResponseStatus(event, outcome.duplicate ? 200 : 202)
+    return outcome satisfies UploadAccepted
+  } catch (err) {
+    throw toHttpError(err)
+  } finally {
+    if (file) await rm(file.path, { force: true })
+  }
+})
