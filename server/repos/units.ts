@@ -1,4 +1,5 @@
 import type { Knex } from 'knex'
+import type { UnitHit } from '../../shared/types/units.ts'
 
 export interface UnitRow {
   id: string
@@ -64,4 +65,140 @@ export async function resolveUnit(db: Knex, serial: string, productCode?: string
   const lotId = lotCode ? await findOrCreateLot(db, Number(product.id), lotCode) : null
   await db('units').insert({ serial, product_id: product.id, lot_id: lotId }).onConflict('serial').ignore()
   return (await getUnitBySerial(db, serial))!
+}
+
+/** The LIKE pattern matching text that starts with `prefix` (its % _ \ taken literally). */
+export function likePrefix(prefix: string): string {
+  return `${prefix.replace(/[\\%_]/g, '\\$&')}%`
+}
+
+/**
+ * Units whose serial equals this one, case ignored (serials are unique as written, so two may
+ * differ only in case), exact spelling first. Uses units_serial_lower_prefix.
+ */
+export async function findUnitIdsBySerialIgnoringCase(db: Knex, serial: string): Promise<{ id: number; serial: string }[]> {
+  const rows: { id: string; serial: string }[] = await db('units')
+    .whereRaw('lower(serial) = lower(?)', [serial])
+    .orderByRaw('serial = ? desc, id desc', [serial])
+    .select('id', 'serial')
+  return rows.map((r) => ({ id: Number(r.id), serial: r.serial }))
+}
+
+/**
+ * Ids of units whose serial starts with `prefix` (case ignored), newest registered first, at most
+ * `limit`. Read from the prefix index only (ids sorted in memory), so a prefix shared by a few
+ * thousand units costs a few milliseconds; a broad prefix (more than `scanCap` units) is answered
+ * from the newest units instead, which a broad prefix finds quickly. `more` tells that some were
+ * left out.
+ */
+export async function findUnitIdsByPrefix(db: Knex, prefix: string, limit: number, scanCap = 5000): Promise<{ ids: number[]; more: boolean }> {
+  const pattern = likePrefix(prefix.toLowerCase())
+  // Bounded look at the prefix index: how many match, up to the cap.
+  const narrow: { id: string }[] = await db
+    .select('id')
+    .from(db('units').whereRaw('lower(serial) like ?', [pattern]).select('id').limit(scanCap + 1).as('m'))
+  if (narrow.length <= scanCap) {
+    const ids = narrow.map((r) => Number(r.id)).sort((a, b) => b - a)
+    return { ids: ids.slice(0, limit), more: ids.length > limit }
+  }
+  const rows: { id: string }[] = await db('units').whereRaw('lower(serial) like ?', [pattern]).orderBy('id', 'desc').limit(limit).select('id')
+  return { ids: rows.map((r) => Number(r.id)), more: true }
+}
+
+/** Serials ending with `suffix` (case ignored), alphabetically, at most `limit` (units_serial_lower_suffix). */
+export async function serialsEndingWith(db: Knex, suffix: string, limit: number): Promise<string[]> {
+  const reversed = [...suffix.toLowerCase()].reverse().join('')
+  return db('units').whereRaw('reverse(lower(serial)) like ?', [likePrefix(reversed)]).orderByRaw('reverse(lower(serial))').limit(limit).pluck('serial')
+}
+
+/** Serials starting with `prefix` (case ignored), alphabetically, at most `limit`. */
+export async function serialsStartingWith(db: Knex, prefix: string, limit: number): Promise<string[]> {
+  return db('units').whereRaw('lower(serial) like ?', [likePrefix(prefix.toLowerCase())]).orderByRaw('lower(serial)').limit(limit).pluck('serial')
+}
+
+/**
+ * A bounded set of serials that may be near a mistyped one. One wrong, missing, extra or swapped
+ * character leaves either the part before it or the part after it intact, and one of the two is at
+ * least half the serial: so serials sharing the query's longest prefix, and those sharing its
+ * longest suffix, down to half its length, hold every serial one mistake away. Each step is one
+ * index range read of at most `perSide` rows.
+ */
+export async function nearSerialCandidates(db: Knex, query: string, perSide = 25): Promise<string[]> {
+  const q = query.toLowerCase()
+  const shortest = Math.max(2, Math.floor((q.length - 1) / 2))
+  const found = new Set<string>()
+  for (const side of ['prefix', 'suffix'] as const) {
+    let taken = 0
+    for (let k = q.length - 1; k >= shortest && taken < perSide; k--) {
+      const part = side === 'prefix' ? q.slice(0, k) : q.slice(q.length - k)
+      const serials = side === 'prefix' ? await serialsStartingWith(db, part, perSide) : await serialsEndingWith(db, part, perSide)
+      for (const s of serials) found.add(s)
+      taken = serials.length
+    }
+  }
+  return [...found]
+}
+
+interface HitRow {
+  id: string
+  serial: string
+  product_code: string
+  product_name: string
+  lot_code: string | null
+  last_tested_at: Date | null
+  tests: string
+  verdict: 'pass' | 'fail' | null
+}
+
+/**
+ * Units by id or serial with their product, lot, latest upload, number of tests and the verdict of
+ * their latest finished production test (two index reads per unit), in the order asked.
+ */
+export async function getUnitHits(db: Knex, by: { ids: number[] } | { serials: string[] }): Promise<UnitHit[]> {
+  const q = db('units as u')
+    .join('products as p', 'p.id', 'u.product_id')
+    .leftJoin('lots as l', 'l.id', 'u.lot_id')
+    .joinRaw('cross join lateral (select max(r.uploaded_at) as last_tested_at, count(*) as tests from recordings r where r.unit_id = u.id) t')
+    .joinRaw(
+      `left join lateral (select res.verdict from recordings r join results res on res.recording_id = r.id
+        where r.unit_id = u.id and r.status = 'done' and not r.is_return_test order by r.id desc limit 1) v on true`,
+    )
+    .select('u.id', 'u.serial', 'p.code as product_code', 'p.name as product_name', 'l.code as lot_code', 't.last_tested_at', 't.tests', 'v.verdict')
+  if ('ids' in by) q.whereIn('u.id', by.ids)
+  else q.whereIn('u.serial', by.serials)
+  const rows: HitRow[] = await q
+  const order = 'ids' in by ? by.ids.map(String) : by.serials
+  const key = (r: HitRow) => ('ids' in by ? r.id : r.serial)
+  return rows
+    .sort((a, b) => order.indexOf(key(a)) - order.indexOf(key(b)))
+    .map((r) => ({
+      serial: r.serial,
+      productCode: r.product_code,
+      productName: r.product_name,
+      lotCode: r.lot_code,
+      lastTestedAt: r.last_tested_at ? r.last_tested_at.toISOString() : null,
+      tests: Number(r.tests),
+      verdict: r.verdict,
+    }))
+}
+
+/** Per recording of a unit: who uploaded it (a person, or none when a station posted with its token), the station's line and profile version. */
+export async function listTestContext(db: Knex, unitId: number): Promise<
+  { id: number; uploadedBy: string | null; stationName: string | null; stationLine: string | null; profileVersion: number | null; ambientC: number | null; note: string | null }[]
+> {
+  const rows: { id: string; display_name: string | null; station_name: string | null; line: string | null; version: number | null; ambient_c: number | null; note: string | null }[] = await db('recordings as r')
+    .leftJoin('users as usr', 'usr.id', 'r.uploaded_by')
+    .leftJoin('stations as s', 's.id', 'r.station_id')
+    .leftJoin('station_profiles as sp', 'sp.id', 'r.station_profile_id')
+    .where('r.unit_id', unitId)
+    .select('r.id', 'usr.display_name', 's.name as station_name', 's.line', 'sp.version', 'r.ambient_c', 'r.note')
+  return rows.map((r) => ({
+    id: Number(r.id),
+    uploadedBy: r.display_name,
+    stationName: r.station_name,
+    stationLine: r.line,
+    profileVersion: r.version,
+    ambientC: r.ambient_c,
+    note: r.note,
+  }))
 }

@@ -1,5 +1,6 @@
 import type { Role } from '../utils/roles'
 import type { Coil } from '../utils/coil'
+import type { UnitTest } from './units'
 
 /** The body of every error answer: h3's shape with a machine code in data.code. */
 export interface ApiErrorBody {
@@ -141,14 +142,22 @@ export interface StationView {
   profileId: number
   profileVersion: number
   profile: Record<string, unknown>
+  /** When the station last uploaded a recording (null: never). */
+  lastUploadAt: string | null
 }
 
+/** GET /api/units/:serial: the unit's factory record. */
 export interface UnitView {
   serial: string
   product: ProductView
   lot: { code: string } | null
+  /** The verdict of the latest finished production (non-return) test. */
   verdict: 'pass' | 'fail' | null
-  recordings: RecordingView[]
+  /** Every test newest first, return tests included (marked `returnTest`). */
+  recordings: UnitTest[]
+  /** The latest finished production test: the one a test certificate states. */
+  latestProductionId: number | null
+  registeredAt: string
   /** What the product's current mask says of each result, beside its historic verdict (null without a released mask). */
   currentMask: { version: number; results: { recordingId: number; verdict: 'pass' | 'fail'; failedChecks: string[] }[] } | null
 }

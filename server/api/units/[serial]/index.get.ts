@@ -1,6 +1,6 @@
-import { getUnitView } from '../../services/units'
-import { serialParamSchema } from '../../../shared/utils/bench'
-import type { UnitView } from '../../../shared/types/api'
+import { getUnitView } from '../../../services/units'
+import { serialParamSchema } from '../../../../shared/utils/bench'
+import type { UnitView } from '../../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event)

@@ -1,0 +1,18 @@
+import { CertificateError, downloadCertificate } from '../../../services/units'
+import { serialParamSchema } from '../../../../shared/utils/bench'
+import { CERTIFICATE_ROLES } from '../../../../shared/utils/units'
+
+/** The unit's one-page test certificate (support, quality, engineers); every download is audited. */
+export default defineEventHandler(async (event) => {
+  const user = await requireRole(event, ...CERTIFICATE_ROLES)
+  const { serial } = await getValidatedRouterParams(event, zodValidator(serialParamSchema))
+  try {
+    const { pdf, filename } = await downloadCertificate(useDb(), serial, user)
+    setResponseHeader(event, 'content-type', 'application/pdf')
+    setResponseHeader(event, 'content-disposition', `attachment; filename="${filename}"`)
+    return pdf
+  } catch (err) {
+    if (err instanceof CertificateError) throw httpError(err.status, err.code, err.message)
+    throw err
+  }
+})

@@ -1,0 +1,56 @@
+import type { RecordingView } from './api'
+
+/** One unit in the search answer: enough to tell it apart without opening it. */
+export interface UnitHit {
+  serial: string
+  productCode: string
+  productName: string
+  lotCode: string | null
+  /** When its latest recording was uploaded (null: registered, nothing uploaded). */
+  lastTestedAt: string | null
+  /** Recordings of the unit, return tests included. */
+  tests: number
+  /** The verdict of its latest finished production (non-return) test. */
+  verdict: 'pass' | 'fail' | null
+}
+
+/**
+ * GET /api/units?q= : `exact` when a serial equals the query (case ignored), `prefix` when serials
+ * start with it (newest first, at most SEARCH_LIST_LIMIT; `more` when others were left out),
+ * `unknown` when no serial starts with it: never tested here, with the nearest serials.
+ */
+export interface UnitSearchAnswer {
+  /** The query as understood (a scanner's control characters and start/stop characters removed). */
+  query: string
+  match: 'exact' | 'prefix' | 'unknown'
+  units: UnitHit[]
+  more: boolean
+  nearest: UnitHit[]
+}
+
+/** Who ran a test: a signed-in person, or a station posting with its own token. */
+export interface TestOperator {
+  kind: 'person' | 'station'
+  name: string
+}
+
+/** One test in a unit's factory record: the recording, its result, and who, where and with what calibration. */
+export interface UnitTest extends RecordingView {
+  /** 1 for the unit's first recording, in upload order. */
+  number: number
+  operator: TestOperator | null
+  stationLine: string | null
+  profileVersion: number | null
+  ambientC: number | null
+  note: string | null
+}
+
+/** POST /api/units/:serial/certificate/send answer. */
+export interface CertificateSent {
+  serial: string
+  recipients: string[]
+  /** Addresses the SMTP server accepted. */
+  accepted: string[]
+  messageId: string
+  attachment: string
+}
