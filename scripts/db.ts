@@ -7,7 +7,7 @@
  * missing and running as root, and runs the server as the `postgres` system user when started
  * as root (PostgreSQL refuses to run as root).
  */
-import { execFileSync, spawnSync } from 'node:child_process'
+import { execFile, execFileSync, spawnSync } from 'node:child_process'
 import { randomBytes } from 'node:crypto'
 import { chmodSync, chownSync, existsSync, mkdirSync, readFileSync, readdirSync, rmSync, statSync, writeFileSync } from 'node:fs'
 import { dirname, join, resolve } from 'node:path'
@@ -189,6 +189,25 @@ export function stopCluster(o: Pick<ClusterOptions, 'dataDir'>) {
   }
   pgRun(bin, 'pg_ctl', ['-D', dir, '-m', 'fast', '-w', 'stop'])
   log('stopped')
+}
+
+/**
+ * Stops or starts a cluster that startCluster created, without blocking the event loop: fault
+ * tests restart PostgreSQL while their simulated stations keep sending in the same process.
+ * Starting uses the same options as startCluster (loopback only, `fast` for test clusters).
+ */
+export function pgCtlAsync(o: ClusterOptions, action: 'start' | 'stop'): Promise<void> {
+  const bin = findPgBin()
+  if (!bin) return Promise.reject(new Error('PostgreSQL binaries not found under /usr/lib/postgresql'))
+  const dir = clusterDir(o.dataDir)
+  const opts = ['-c listen_addresses=127.0.0.1', `-c port=${o.port}`, "-c unix_socket_directories=''"]
+  if (o.fast) opts.push('-c fsync=off', '-c synchronous_commit=off', '-c full_page_writes=off')
+  const args = action === 'stop' ? ['-D', dir, '-m', 'fast', '-w', 'stop'] : ['-D', dir, '-l', join(dir, 'server.log'), '-w', '-t', '60', 'start', '-o', opts.join(' ')]
+  const exe = join(bin, 'pg_ctl')
+  const [file, argv] = isRoot ? ['runuser', ['-u', SYSTEM_USER, '--', exe, ...args]] : [exe, args]
+  return new Promise((ok, fail) => {
+    execFile(file, argv, { encoding: 'utf8' }, (err, stdout, stderr) => (err ? fail(new Error(`pg_ctl ${action} failed: ${stdout}${stderr}`)) : ok()))
+  })
 }
 
 /** Creates a database on the cluster when it does not exist; with `fresh`, drops it first. */

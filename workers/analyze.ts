@@ -17,6 +17,7 @@ import { failOrphanedRecordings, markFinishedWithError } from '../server/repos/r
 import { processRecording } from '../server/services/analyse'
 import { evaluateAlerts } from '../server/services/alerts'
 import { directoryStorage } from '../server/storage/recordings'
+import { isDatabaseUnavailable } from '../server/utils/db'
 
 /** Jobs fetched per poll: pg-boss waits its polling interval between fetches, so one job a fetch would cap throughput. */
 const BATCH_SIZE = 8
@@ -58,6 +59,13 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
       }
     } catch (err) {
       const message = err instanceof Error ? err.message : String(err)
+      if (isDatabaseUnavailable(err)) {
+        // Nothing can be recorded now. Throwing hands the whole batch back to pg-boss, which fails
+        // it when the database answers again (or lets it expire): each job is retried, and the
+        // ones already done are skipped by processRecording.
+        log(`recording ${id}: database unreachable, the job will be retried: ${message}`)
+        throw err
+      }
       if (job.retryCount >= job.retryLimit) {
         await markFinishedWithError(db, id, 'failed', 'analysis_failed', message)
         log(`recording ${id}: failed for good after ${job.retryCount + 1} tries: ${message}`)
@@ -99,6 +107,17 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
   }
   process.on('SIGINT', stop)
   process.on('SIGTERM', stop)
+  // pg-boss completes and fails jobs without awaiting the promise: while PostgreSQL restarts those
+  // calls reject with nobody to catch them. The job then stays active and expires into a retry, so
+  // the worker logs it and carries on; any other unhandled rejection still ends the process.
+  process.on('unhandledRejection', (reason) => {
+    if (isDatabaseUnavailable(reason)) {
+      log(`queue call lost while the database was unreachable (the job will expire and be retried): ${reason instanceof Error ? reason.message : String(reason)}`)
+      return
+    }
+    log(`unhandled rejection: ${reason instanceof Error ? (reason.stack ?? reason.message) : String(reason)}`)
+    process.exit(1)
+  })
 
   // pg-boss reports a lost database connection here and keeps polling: once PostgreSQL is back
   // (a restart, a failover), the pools reconnect and work resumes without restarting the worker.
