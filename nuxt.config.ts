@@ -10,7 +10,44 @@ export default defineNuxtConfig({
   ...(process.env.CONETRAIL_BUILD_DIR ? { buildDir: process.env.CONETRAIL_BUILD_DIR } : {}),
   devtools: { enabled: false },
   telemetry: false,
-  modules: ['@nuxtjs/tailwindcss', '@pinia/nuxt', 'nuxt-auth-utils'],
+  modules: ['@nuxtjs/tailwindcss', '@pinia/nuxt', 'nuxt-auth-utils', 'nuxt-security'],
+  // Security headers and the content security policy (README, "Security"). Scripts run only with
+  // the per-response nonce Nuxt's SSR stamps on its own tags ('strict-dynamic' lets them load the
+  // page chunks); styles may be inline (Vue style bindings, uPlot); fonts are our own files.
+  security: {
+    headers: {
+      contentSecurityPolicy: {
+        'default-src': ["'self'"],
+        'base-uri': ["'none'"],
+        'connect-src': ["'self'"],
+        'font-src': ["'self'", 'data:'],
+        'form-action': ["'self'"],
+        'frame-ancestors': ["'none'"],
+        'img-src': ["'self'", 'data:', 'blob:'],
+        'object-src': ["'none'"],
+        'script-src': ["'self'", "'strict-dynamic'", "'nonce-{{nonce}}'"],
+        'script-src-attr': ["'none'"],
+        'style-src': ["'self'", "'unsafe-inline'"],
+        // Conetrail is often served over plain http on a factory network: never rewrite its URLs to https.
+        'upgrade-insecure-requests': false,
+      },
+      xFrameOptions: 'DENY',
+    },
+    // Sign-in has its own per-account and per-address limiter (server/utils/rate-limit.ts); a
+    // global per-address limit would throttle thirty stations behind one address.
+    rateLimiter: false,
+    // Inputs are validated by zod and rendered as text (no v-html); this filter would also read
+    // whole uploads into memory.
+    xssValidator: false,
+    // Same-origin app: no cross-origin caller is granted anything.
+    corsHandler: false,
+    requestSizeLimiter: { maxRequestSizeInBytes: 2_000_000, maxUploadFileRequestInBytes: 8_000_000 },
+  },
+  routeRules: {
+    // Uploads: formidable streams the body to disk and stops at CONETRAIL_MAX_UPLOAD_MB (64 MB by
+    // default) with 413 `too_large`, counting real bytes rather than trusting Content-Length.
+    '/api/recordings': { security: { requestSizeLimiter: false } },
+  },
   css: [
     '@fontsource/source-sans-3/400.css',
     '@fontsource/source-sans-3/600.css',
@@ -28,6 +65,9 @@ export default defineNuxtConfig({
     },
   },
   runtimeConfig: {
+    // nuxt-auth-utils' sealed cookie: one shift (NUXT_SESSION_MAX_AGE, seconds), HttpOnly, SameSite=Lax;
+    // the Secure flag is set per request (server/utils/auth.ts, CONETRAIL_SECURE_COOKIE).
+    session: { maxAge: 12 * 60 * 60, cookie: { sameSite: 'lax', httpOnly: true } },
     appVersion: pkg.version,
     dataDir: '.data',
     public: { appVersion: pkg.version },

@@ -1,5 +1,53 @@
-import type { PersonSummary } from '#shared/types/api'
+import type { InvitationCreated, InvitationView, PersonView } from '#shared/types/people'
+import type { InviteInput, PersonPatch } from '#shared/utils/people'
 
 export function usePeople() {
-  return useFetch<PersonSummary[]>('/api/people', { key: 'people', default: () => [] })
+  return useFetch<PersonView[]>('/api/people', { key: 'people', default: () => [] })
+}
+
+export function useInvitations() {
+  return useFetch<InvitationView[]>('/api/invitations', { key: 'invitations', default: () => [] })
+}
+
+/** The admin's changes on the People page: invite, withdraw, new role, (de)activate. */
+export function usePeopleAdmin() {
+  const error = ref<string | null>(null)
+  const busy = ref(false)
+  /** The invitation just made, with its link: shown once. */
+  const created = ref<InvitationCreated | null>(null)
+
+  async function run<T>(fn: () => Promise<T>): Promise<T | undefined> {
+    error.value = null
+    busy.value = true
+    try {
+      const out = await fn()
+      await Promise.all([refreshNuxtData('people'), refreshNuxtData('invitations')])
+      return out
+    } catch (err) {
+      error.value = apiErrorOf(err).message
+      return undefined
+    } finally {
+      busy.value = false
+    }
+  }
+
+  return {
+    error,
+    busy,
+    created,
+    invite: async (input: InviteInput) => {
+      const out = await run(() => $fetch<InvitationCreated>('/api/invitations', { method: 'POST', body: input }))
+      if (out) created.value = out
+      return Boolean(out)
+    },
+    withdraw: (id: number) => {
+      // A plain string: the typed-route inference of a template URL is too deep for vue-tsc.
+      const url: string = `/api/invitations/${id}`
+      return run(() => $fetch<InvitationView>(url, { method: 'DELETE' }))
+    },
+    change: (id: number, patch: PersonPatch) => {
+      const url: string = `/api/people/${id}`
+      return run(() => $fetch<PersonView>(url, { method: 'PATCH', body: patch }))
+    },
+  }
 }

@@ -4,6 +4,8 @@ import { roleAllows } from '#shared/utils/roles'
 /** Comfort only: sends signed-out visitors to sign-in and keeps roles on their own pages. The server guards are the protection. */
 export default defineNuxtRouteMiddleware((to) => {
   const { loggedIn, user } = useUserSession()
+  // An invitation link is opened by someone who has no account yet.
+  if (to.path.startsWith('/invite/')) return
   if (to.path === '/login') {
     return loggedIn.value && user.value ? navigateTo(homeFor(user.value.role)) : undefined
   }

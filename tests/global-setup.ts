@@ -27,7 +27,8 @@ export default async function setup(project: TestProject) {
     database: 'conetrail_test',
     build: process.env.CONETRAIL_TEST_SKIP_BUILD !== '1',
     // A small upload limit, so the 413 test need not send a large body.
-    env: { ...TEST_QUEUE_ENV, CONETRAIL_MAX_UPLOAD_MB: '8' },
+    // A trusted X-Forwarded-For, so the sign-in rate-limit test can come from addresses of its own.
+    env: { ...TEST_QUEUE_ENV, CONETRAIL_MAX_UPLOAD_MB: '8', CONETRAIL_TRUST_PROXY: '1' },
   })
   project.provide('baseUrl', stack.baseUrl)
   project.provide('databaseUrl', stack.databaseUrl)

@@ -3,6 +3,7 @@ import type { Knex } from 'knex'
 import type { StationProfile } from '../analysis/index.ts'
 import type { StationView } from '../../shared/types/api.ts'
 import { isUniqueViolation } from './pg-errors.ts'
+import { writeAudit } from './audit.ts'
 
 /** A station as the API shows it, with its profile typed by the engine's schema. */
 export type StationSummary = Omit<StationView, 'profile'> & { profile: StationProfile }
@@ -35,6 +36,7 @@ interface StationJoinRow {
   profile_id: string
   version: number
   profile: StationProfile
+  last_upload_at: Date | null
 }
 
 function toStation(r: StationJoinRow): StationSummary {
@@ -47,11 +49,14 @@ function toStation(r: StationJoinRow): StationSummary {
     profileId: Number(r.profile_id),
     profileVersion: r.version,
     profile: r.profile,
+    lastUploadAt: r.last_upload_at ? r.last_upload_at.toISOString() : null,
   }
 }
 
 function stationsQuery(db: Knex) {
-  return db('stations as s').join(currentProfile(db), 'cp.station_id', 's.id').select('s.id', 's.name', 's.line', 's.active', 's.token_hint', 'cp.profile_id', 'cp.version', 'cp.profile')
+  // The latest upload through the (station_id, uploaded_at) index: one probe per station.
+  const lastUpload = db('recordings as r').where('r.station_id', db.ref('s.id')).max('r.uploaded_at').as('last_upload_at')
+  return db('stations as s').join(currentProfile(db), 'cp.station_id', 's.id').select('s.id', 's.name', 's.line', 's.active', 's.token_hint', 'cp.profile_id', 'cp.version', 'cp.profile', lastUpload)
 }
 
 export async function listStations(db: Knex): Promise<StationSummary[]> {
@@ -79,6 +84,8 @@ export interface NewStation {
   line: string
   profile: StationProfile
   createdBy: number | null
+  /** The caller's address, for the audit log. */
+  ip?: string | null
 }
 
 /**
@@ -91,6 +98,7 @@ export async function createStation(db: Knex, s: NewStation): Promise<{ id: numb
     db.transaction(async (trx) => {
       const [row] = await trx('stations').insert({ name: s.name, line: s.line, token_hash: t.hash, token_hint: t.hint }).returning('id')
       await trx('station_profiles').insert({ station_id: row.id, version: 1, profile: JSON.stringify(s.profile), created_by: s.createdBy })
+      await writeAudit(trx, { userId: s.createdBy, action: 'station.token_issue', entity: 'station', entityId: row.id, subject: s.name, ip: s.ip, detail: { tokenHint: t.hint } })
       return { id: Number(row.id), token: t.token }
     }),
   )
@@ -146,11 +154,15 @@ export async function updateStation(db: Knex, id: number, patch: StationPatch, b
   )
 }
 
-/** Replaces the station's token; the old one stops working at once. */
-export async function rotateStationToken(db: Knex, id: number): Promise<string | undefined> {
+/** Replaces the station's token; the old one stops working at once (only the new hash is kept). */
+export async function rotateStationToken(db: Knex, id: number, by: { userId: number | null; ip?: string | null } = { userId: null }): Promise<string | undefined> {
   const t = newStationToken()
-  const n = await db('stations').where({ id }).update({ token_hash: t.hash, token_hint: t.hint, updated_at: db.fn.now() })
-  return n ? t.token : undefined
+  return db.transaction(async (trx) => {
+    const [row] = await trx('stations').where({ id }).update({ token_hash: t.hash, token_hint: t.hint, updated_at: trx.fn.now() }).returning(['name', 'token_hint'])
+    if (!row) return undefined
+    await writeAudit(trx, { userId: by.userId, action: 'station.token_rotate', entity: 'station', entityId: id, subject: row.name, ip: by.ip, detail: { tokenHint: t.hint } })
+    return t.token
+  })
 }
 
 /** The station profiles the given recordings were analysed with. */

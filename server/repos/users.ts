@@ -1,5 +1,6 @@
 import type { Knex } from 'knex'
 import type { Role } from '../../shared/utils/roles'
+import type { PersonView } from '../../shared/types/people'
 
 export interface UserRow {
   id: string
@@ -11,6 +12,8 @@ export interface UserRow {
   last_login_at: Date | null
   created_at: Date
   updated_at: Date
+  deactivated_at: Date | null
+  deactivated_by: string | null
 }
 
 /** Public view of a user (never the hash). */
@@ -71,6 +74,48 @@ export async function createUserIfAbsent(db: Knex, u: NewUser): Promise<boolean>
 export async function countUsers(db: Knex, filter: { role?: Role; active?: boolean } = {}): Promise<number> {
   const row = await db('users').where(filter).count<{ n: string }[]>({ n: '*' }).first()
   return Number(row?.n ?? 0)
+}
+
+/** Everyone who can or could sign in, with who deactivated them; never the hash. */
+export async function listPeople(db: Knex): Promise<PersonView[]> {
+  const rows: (UserRow & { deactivated_by_name: string | null })[] = await db('users as u')
+    .leftJoin('users as d', 'd.id', 'u.deactivated_by')
+    .select('u.*', 'd.display_name as deactivated_by_name')
+    .orderBy([{ column: 'u.active', order: 'desc' }, { column: 'u.role' }, { column: 'u.email' }])
+  return rows.map((r) => ({
+    ...toSummary(r),
+    createdAt: r.created_at.toISOString(),
+    deactivatedAt: r.deactivated_at ? r.deactivated_at.toISOString() : null,
+    deactivatedBy: r.deactivated_by_name,
+  }))
+}
+
+/** Inserts a user and returns its id (the e-mail must be free: unique index). */
+export async function createUser(db: Knex, u: NewUser): Promise<number> {
+  const [row] = await db('users')
+    .insert({ email: normaliseEmail(u.email), display_name: u.displayName, password_hash: u.passwordHash, role: u.role })
+    .returning('id')
+  return Number(row.id)
+}
+
+/**
+ * Locks the rows of the active admins until the transaction ends and returns their ids, so two
+ * admins demoting each other at once cannot leave nobody in charge.
+ */
+export async function lockActiveAdmins(trx: Knex.Transaction): Promise<number[]> {
+  const rows = await trx('users').where({ role: 'admin', active: true }).orderBy('id').forUpdate().select('id')
+  return rows.map((r: { id: string }) => Number(r.id))
+}
+
+export async function setRole(db: Knex, id: number, role: Role): Promise<void> {
+  await db('users').where({ id }).update({ role, updated_at: db.fn.now() })
+}
+
+/** (De)activates an account; deactivation remembers who and when, reactivation clears it. */
+export async function setActive(db: Knex, id: number, active: boolean, by: number): Promise<void> {
+  await db('users')
+    .where({ id })
+    .update(active ? { active, deactivated_at: null, deactivated_by: null, updated_at: db.fn.now() } : { active, deactivated_at: db.fn.now(), deactivated_by: by, updated_at: db.fn.now() })
 }
 
 export async function recordLogin(db: Knex, id: number): Promise<void> {

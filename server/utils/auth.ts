@@ -1,6 +1,8 @@
 import type { H3Event } from 'h3'
 import type { User } from '#auth-utils'
 import { getUserById } from '../repos/users'
+import { InvitationError } from '../repos/invitations'
+import { PeopleError, type Actor } from '../services/people'
 import { roleAllows, type Role } from '../../shared/utils/roles'
 import { useDb } from './db'
 import { httpError } from './errors'
@@ -16,7 +18,7 @@ export async function requireRole(event: H3Event, ...roles: Role[]): Promise<Use
   if (!session.user) throw httpError(401, 'unauthenticated', 'Sign in first')
   const row = await getUserById(useDb(), session.user.id)
   if (!row || !row.active) {
-    await clearUserSession(event)
+    await endSession(event)
     throw httpError(401, 'unauthenticated', 'Sign in first')
   }
   const user: User = { id: Number(row.id), email: row.email, displayName: row.display_name, role: row.role }
@@ -24,4 +26,69 @@ export async function requireRole(event: H3Event, ...roles: Role[]): Promise<Use
     throw httpError(403, 'forbidden', `This needs the ${roles.join(' or ')} role`)
   }
   return user
+}
+
+/** requireRole, with the caller's address for the audit log. */
+export async function requireActor(event: H3Event, ...roles: Role[]): Promise<Actor> {
+  const user = await requireRole(event, ...roles)
+  return { id: user.id, displayName: user.displayName, email: user.email, ip: clientAddress(event) }
+}
+
+/**
+ * CONETRAIL_TRUST_PROXY=1: Conetrail runs behind a reverse proxy that sets X-Forwarded-For,
+ * X-Forwarded-Proto and X-Forwarded-Host. Off by default: anyone can send those headers.
+ */
+export function trustProxy(): boolean {
+  return ['1', 'true', 'yes'].includes((process.env.CONETRAIL_TRUST_PROXY ?? '').toLowerCase())
+}
+
+/** The caller's address: the socket's, or the proxy's X-Forwarded-For when it is trusted. */
+export function clientAddress(event: H3Event): string | null {
+  return getRequestIP(event, { xForwardedFor: trustProxy() }) ?? null
+}
+
+/** The origin people reach this server at (for links in e-mails). */
+export function publicOrigin(event: H3Event): string {
+  const fixed = process.env.CONETRAIL_PUBLIC_URL?.trim()
+  if (fixed) return fixed.replace(/\/+$/, '')
+  const trusted = trustProxy()
+  return getRequestURL(event, { xForwardedHost: trusted, xForwardedProto: trusted }).origin
+}
+
+/**
+ * Whether the session cookie gets the Secure flag: CONETRAIL_SECURE_COOKIE=1 always, =0 never,
+ * `auto` (default) when the request came over https (TLS here, or a trusted proxy's https).
+ * Plain http on a factory network then still signs in; over https the cookie never leaks to http.
+ */
+export function secureCookie(event: H3Event): boolean {
+  const mode = (process.env.CONETRAIL_SECURE_COOKIE ?? 'auto').toLowerCase()
+  if (['1', 'true', 'yes'].includes(mode)) return true
+  if (['0', 'false', 'no'].includes(mode)) return false
+  return getRequestProtocol(event, { xForwardedProto: trustProxy() }) === 'https'
+}
+
+function cookieConfig(event: H3Event) {
+  return { cookie: { secure: secureCookie(event), httpOnly: true, sameSite: 'lax' as const } }
+}
+
+/**
+ * Starts a fresh session for a person who just proved who they are: a new id and a new start
+ * time (the lifetime, runtimeConfig.session.maxAge, counts from here, not from the first visit).
+ */
+export async function startSession(event: H3Event, user: User): Promise<void> {
+  const name = (useRuntimeConfig(event).session as { name?: string } | undefined)?.name ?? 'nuxt-session'
+  // h3 keeps the request's session in event.context.sessions; replacing it drops the visitor's old one.
+  const sessions = (event.context.sessions ??= Object.create(null)) as Record<string, unknown>
+  sessions[name] = { id: crypto.randomUUID(), createdAt: Date.now(), data: Object.create(null) }
+  await setUserSession(event, { user, loggedInAt: new Date().toISOString() }, cookieConfig(event))
+}
+
+export async function endSession(event: H3Event): Promise<void> {
+  await clearUserSession(event, cookieConfig(event))
+}
+
+/** The people service's and the invitations' typed errors as HTTP errors; anything else as it is. */
+export function toPeopleHttpError(err: unknown): unknown {
+  if (err instanceof InvitationError || err instanceof PeopleError) return httpError(err.status, err.code, err.message)
+  return err
 }

@@ -1,4 +1,6 @@
-import { getUserByEmail, recordLogin } from '../../repos/users'
+// access: public
+import { getUserByEmail, normaliseEmail, recordLogin } from '../../repos/users'
+import { writeAudit } from '../../repos/audit'
 import { loginSchema } from '../../../shared/utils/schemas'
 import type { MeResponse } from '../../../shared/types/api'
 
@@ -6,17 +8,30 @@ import type { MeResponse } from '../../../shared/types/api'
 let decoyHash: Promise<string> | undefined
 
 export default defineEventHandler(async (event) => {
-  const { email, password } = await readValidatedBody(event, zodValidator(loginSchema))
+  const body = await readValidatedBody(event, zodValidator(loginSchema))
+  const email = normaliseEmail(body.email)
+  const ip = clientAddress(event)
+  const wait = await signInRetryAfter(email, ip)
+  if (wait > 0) {
+    setResponseHeader(event, 'retry-after', wait)
+    throw httpError(429, 'sign_in_limited', `Too many failed sign-ins: try again in ${Math.ceil(wait / 60)} min`, { retryAfterS: wait })
+  }
   const db = useDb()
   const row = await getUserByEmail(db, email)
   decoyHash ??= hashPassword('decoy password, never matches')
-  const ok = await verifyPassword(row?.password_hash ?? (await decoyHash), password)
+  const ok = await verifyPassword(row?.password_hash ?? (await decoyHash), body.password)
   if (!row || !ok || !row.active) {
+    await recordSignInFailure(email, ip)
+    // The e-mail tried and why, never the password.
+    const reason = !row ? 'unknown_email' : !ok ? 'wrong_password' : 'deactivated'
+    await writeAudit(db, { userId: null, action: 'auth.sign_in_failed', entity: 'user', entityId: row?.id ?? email, subject: email, ip, detail: { email, reason } })
     // One generic answer for every cause: it must not tell which e-mails exist.
     throw httpError(401, 'invalid_credentials', 'Wrong e-mail or password')
   }
+  await recordSignInSuccess(email)
   const user = { id: Number(row.id), email: row.email, displayName: row.display_name, role: row.role }
-  await setUserSession(event, { user, loggedInAt: new Date().toISOString() })
+  await startSession(event, user)
   await recordLogin(db, user.id)
+  await writeAudit(db, { userId: user.id, action: 'auth.sign_in', entity: 'user', entityId: user.id, subject: user.email, ip })
   return { user } satisfies MeResponse
 })

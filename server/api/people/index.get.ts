@@ -1,7 +1,7 @@
-import { listUsers } from '../../repos/users'
-import type { PersonSummary } from '../../../shared/types/api'
+import { listPeople } from '../../repos/users'
+import type { PersonView } from '../../../shared/types/people'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'admin')
-  return (await listUsers(useDb())) satisfies PersonSummary[]
+  return (await listPeople(useDb())) satisfies PersonView[]
 })

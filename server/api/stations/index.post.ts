@@ -4,10 +4,10 @@ import { stationCreateSchema } from '../../../shared/utils/bench'
 import type { StationToken } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {
-  const user = await requireRole(event, 'engineer')
+  const user = await requireActor(event, 'engineer')
   const body = await readValidatedBody(event, zodValidator(stationCreateSchema))
   const profile = parseInput(stationProfileSchema, body.profile, 'profile')
-  const created = await createStation(useDb(), { name: body.name, line: body.line, profile, createdBy: user.id }).catch((err: unknown) => {
+  const created = await createStation(useDb(), { name: body.name, line: body.line, profile, createdBy: user.id, ip: user.ip }).catch((err: unknown) => {
     throw toHttpError(err)
   })
   setResponseStatus(event, 201)

@@ -3,9 +3,9 @@ import { idParamSchema } from '../../../../shared/utils/bench'
 import type { StationToken } from '../../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {
-  await requireRole(event, 'engineer')
+  const actor = await requireActor(event, 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
-  const token = await rotateStationToken(useDb(), id)
+  const token = await rotateStationToken(useDb(), id, { userId: actor.id, ip: actor.ip })
   if (!token) throw httpError(404, 'not_found', `No station ${id}`)
   return { id, token } satisfies StationToken
 })

@@ -1,0 +1,16 @@
+import { changePerson } from '../../services/people'
+import { listPeople } from '../../repos/users'
+import { personIdParamSchema, personPatchSchema } from '../../../shared/utils/people'
+import type { PersonView } from '../../../shared/types/people'
+
+/** A new role, or (de)activation; answers the person as they now are. 409 `last_admin` when nobody would be left in charge. */
+export default defineEventHandler(async (event) => {
+  const actor = await requireActor(event, 'admin')
+  const { id } = await getValidatedRouterParams(event, zodValidator(personIdParamSchema))
+  const patch = await readValidatedBody(event, zodValidator(personPatchSchema))
+  const db = useDb()
+  await changePerson(db, actor, id, patch).catch((err: unknown) => {
+    throw toPeopleHttpError(err)
+  })
+  return (await listPeople(db)).find((p) => p.id === id)! satisfies PersonView
+})

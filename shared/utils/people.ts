@@ -1,0 +1,71 @@
+import { z } from 'zod'
+import { ROLES } from './roles'
+
+/** How long an invitation link works. */
+export const INVITATION_HOURS = 72
+/** Shortest password a person may choose (common practice: length beats composition rules). */
+export const MIN_PASSWORD_LENGTH = 12
+
+const email = z.string({ error: 'Enter an e-mail' }).trim().toLowerCase().min(3, 'Enter an e-mail').max(254).pipe(z.email('Enter a valid e-mail address'))
+const role = z.enum(ROLES, { error: `Choose one of: ${ROLES.join(', ')}` })
+
+export const inviteSchema = z.object({ email, role })
+export type InviteInput = z.infer<typeof inviteSchema>
+
+/** The token of an invitation link: 32 random bytes in base64url. */
+export const invitationTokenParamSchema = z.object({
+  token: z.string().regex(/^[A-Za-z0-9_-]{43}$/, 'Not an invitation link'),
+})
+
+export const acceptInvitationSchema = z.object({
+  displayName: z.string({ error: 'Enter your name' }).trim().min(2, 'Enter your name').max(80, 'At most 80 characters'),
+  password: z
+    .string({ error: 'Choose a password' })
+    .min(MIN_PASSWORD_LENGTH, `At least ${MIN_PASSWORD_LENGTH} characters`)
+    .max(200, 'At most 200 characters'),
+})
+export type AcceptInvitationInput = z.infer<typeof acceptInvitationSchema>
+
+export const personIdParamSchema = z.object({ id: z.coerce.number().int().positive().max(Number.MAX_SAFE_INTEGER) })
+
+/** One change at a time to a person: a new role, or (de)activation. */
+export const personPatchSchema = z
+  .object({ role: role.optional(), active: z.boolean().optional() })
+  .strict()
+  .refine((p) => p.role !== undefined || p.active !== undefined, { message: 'Give a role or active' })
+export type PersonPatch = z.infer<typeof personPatchSchema>
+
+export const AUDIT_PAGE_SIZES = [25, 50, 100, 200] as const
+
+export const auditQuerySchema = z.object({
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
+  /** Part of the actor's e-mail or name. */
+  actor: z.string().trim().max(120).optional(),
+  action: z.string().trim().max(64).regex(/^[a-z_.]*$/, 'Letters, dots and underscores').optional(),
+  /** Part of the subject (an e-mail, a station, a lot code, an id). */
+  subject: z.string().trim().max(200).optional(),
+  page: z.coerce.number().int().min(1).max(100_000).default(1),
+  pageSize: z.coerce.number().int().min(1).max(200).default(50),
+})
+export type AuditQuery = z.infer<typeof auditQuerySchema>
+
+/** Readable labels of the actions Conetrail writes (others show their code). */
+export const AUDIT_ACTION_LABELS: Record<string, string> = {
+  'auth.sign_in': 'Signed in',
+  'auth.sign_in_failed': 'Sign-in failed',
+  'auth.sign_out': 'Signed out',
+  'invitation.create': 'Invited',
+  'invitation.revoke': 'Invitation withdrawn',
+  'invitation.accept': 'Invitation accepted',
+  'user.role_change': 'Role changed',
+  'user.deactivate': 'Deactivated',
+  'user.reactivate': 'Reactivated',
+  'station.token_issue': 'Station token issued',
+  'station.token_rotate': 'Station token replaced',
+  'mask.release': 'Mask released',
+  'mask.retire': 'Mask retired',
+  'lot.export_csv': 'Lot CSV exported',
+  'lot.export_pdf': 'Lot report PDF exported',
+  'lot.report_sent': 'Lot report e-mailed',
+}
