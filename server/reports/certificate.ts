@@ -35,8 +35,10 @@ function text(doc: Doc, s: string, x: number, y: number, width: number, size = 1
   doc.font(font).fontSize(size).fillColor(color)
   const full = toWinAnsi(s)
   let t = full
-  while (t.length > 1 && doc.widthOfString(t) > width) t = t.slice(0, -1)
-  if (t !== full) t = `${t.slice(0, -1)}…`
+  if (doc.widthOfString(t) > width) {
+    while (t.length > 1 && doc.widthOfString(`${t}…`) > width) t = t.slice(0, -1)
+    t = `${t}…`
+  }
   doc.text(t, x, y, { lineBreak: false, width })
 }
 
@@ -83,12 +85,12 @@ function facts(doc: Doc, d: CertificateData, x: number, y: number, w: number): n
 function parameterTable(doc: Doc, d: CertificateData, x: number, y: number, w: number): number {
   const rows = parameterRows(d.test.parameters, d.test.flags, d.test.checks)
   const cols = [
-    { title: 'Figure', x, w: 170 },
-    { title: 'Measured', x: x + 175, w: 80 },
-    { title: 'Unit', x: x + 260, w: 55 },
-    { title: 'Low limit', x: x + 320, w: 60 },
-    { title: 'High limit', x: x + 385, w: 60 },
-    { title: 'Check', x: x + 450, w: w - 450 },
+    { title: 'Figure', x, w: 160 },
+    { title: 'Measured', x: x + 165, w: 70 },
+    { title: 'Unit', x: x + 240, w: 45 },
+    { title: 'Low limit', x: x + 290, w: 60 },
+    { title: 'High limit', x: x + 355, w: 60 },
+    { title: 'Check', x: x + 420, w: w - 420 },
   ]
   text(doc, 'Figures and limits', x, y, w, 12, INK, 'Helvetica-Bold')
   y += 20

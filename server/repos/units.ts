@@ -86,34 +86,35 @@ export async function findUnitIdsBySerialIgnoringCase(db: Knex, serial: string):
 
 /**
  * Ids of units whose serial starts with `prefix` (case ignored), newest registered first, at most
- * `limit`. Read from the prefix index only (ids sorted in memory), so a prefix shared by a few
- * thousand units costs a few milliseconds; a broad prefix (more than `scanCap` units) is answered
- * from the newest units instead, which a broad prefix finds quickly. `more` tells that some were
- * left out.
+ * `limit`; `more` when some were left out. Every read is a bounded range of the prefix index: when
+ * at most `scanCap` units match, all of them are sorted by age; a broader prefix (say the first
+ * letters of a product's serials) takes the `scanCap` highest serials and lists the newest of those,
+ * which for serials given out in order are the newest units. (Reading the newest units and
+ * filtering them by prefix instead costs a scan of the whole table when the prefix is an old one.)
  */
 export async function findUnitIdsByPrefix(db: Knex, prefix: string, limit: number, scanCap = 5000): Promise<{ ids: number[]; more: boolean }> {
   const pattern = likePrefix(prefix.toLowerCase())
-  // Bounded look at the prefix index: how many match, up to the cap.
-  const narrow: { id: string }[] = await db
-    .select('id')
-    .from(db('units').whereRaw('lower(serial) like ?', [pattern]).select('id').limit(scanCap + 1).as('m'))
+  const matching = () => db('units').whereRaw('lower(serial) like ?', [pattern])
+  const narrow: { id: string }[] = await matching().limit(scanCap + 1).select('id')
   if (narrow.length <= scanCap) {
     const ids = narrow.map((r) => Number(r.id)).sort((a, b) => b - a)
     return { ids: ids.slice(0, limit), more: ids.length > limit }
   }
-  const rows: { id: string }[] = await db('units').whereRaw('lower(serial) like ?', [pattern]).orderBy('id', 'desc').limit(limit).select('id')
+  // ~>~ is the descending order of text_pattern_ops, so the index hands the rows over in order.
+  const highest = matching().orderByRaw('lower(serial) using ~>~').limit(scanCap).select('id')
+  const rows: { id: string }[] = await db.from(highest.as('m')).orderBy('id', 'desc').limit(limit).select('id')
   return { ids: rows.map((r) => Number(r.id)), more: true }
 }
 
-/** Serials ending with `suffix` (case ignored), alphabetically, at most `limit` (units_serial_lower_suffix). */
+/** Serials ending with `suffix` (case ignored), at most `limit`, in the suffix index's order (units_serial_lower_suffix). */
 export async function serialsEndingWith(db: Knex, suffix: string, limit: number): Promise<string[]> {
   const reversed = [...suffix.toLowerCase()].reverse().join('')
-  return db('units').whereRaw('reverse(lower(serial)) like ?', [likePrefix(reversed)]).orderByRaw('reverse(lower(serial))').limit(limit).pluck('serial')
+  return db('units').whereRaw('reverse(lower(serial)) like ?', [likePrefix(reversed)]).orderByRaw('reverse(lower(serial)) using ~<~').limit(limit).pluck('serial')
 }
 
-/** Serials starting with `prefix` (case ignored), alphabetically, at most `limit`. */
+/** Serials starting with `prefix` (case ignored), at most `limit`, in the prefix index's (byte) order: ~<~ is text_pattern_ops' own order, so no sort is needed. */
 export async function serialsStartingWith(db: Knex, prefix: string, limit: number): Promise<string[]> {
-  return db('units').whereRaw('lower(serial) like ?', [likePrefix(prefix.toLowerCase())]).orderByRaw('lower(serial)').limit(limit).pluck('serial')
+  return db('units').whereRaw('lower(serial) like ?', [likePrefix(prefix.toLowerCase())]).orderByRaw('lower(serial) using ~<~').limit(limit).pluck('serial')
 }
 
 /**

@@ -158,12 +158,14 @@ export function parameterRows(
 ): ParameterRow[] {
   return UNIT_PARAMETERS.map((p) => {
     const check = p.check ? checks.find((c) => c.name === p.check) : undefined
-    const value = p.key === 'polarity' ? (flags?.polarity ?? '–') : figureText(parameters?.[p.key])
+    // Without the ambient temperature Re cannot be referred to 20 °C: the raw Re is shown, and says so.
+    const rawRe = p.key === 're20Ohm' && typeof parameters?.re20Ohm !== 'number' && typeof parameters?.reOhm === 'number'
+    const value = p.key === 'polarity' ? (flags?.polarity ?? '–') : figureText(parameters?.[rawRe ? 'reOhm' : p.key])
     // Polarity has a required state, not bounds: "normal" stands in the low column when judged.
     const polarity = p.key === 'polarity'
     return {
       key: p.key,
-      label: p.label,
+      label: rawRe ? 'Re (ambient not given)' : p.label,
       unit: p.unit,
       value,
       low: polarity ? (check ? 'normal' : '–') : figureText(check?.low),

@@ -147,6 +147,8 @@ describe('parameter rows (unit page and certificate)', () => {
     expect(row('re20Ohm')).toMatchObject({ value: '3.30', low: '3.10', high: '3.50', outcome: 'pass' })
     expect(row('qms')).toMatchObject({ value: '4.10', low: '–', high: '–', outcome: null })
     expect(row('polarity')).toMatchObject({ value: 'inverted', low: 'normal', outcome: 'fail' })
+    const raw = parameterRows({ ...TEST.parameters, re20Ohm: null }, TEST.flags, TEST.checks).find((r) => r.key === 're20Ohm')!
+    expect(raw).toMatchObject({ label: 'Re (ambient not given)', value: '3.31' })
     expect(rows.map((r) => r.key)).toEqual(['re20Ohm', 'fsHz', 'qms', 'qes', 'qts', 'leMh', 'sensitivityDb', 'thdMaxPct', 'rubBuzzDb', 'polarity'])
   })
 })
