@@ -115,7 +115,7 @@ export async function listLotSummaries(db: Knex, filter: LotFilter = {}): Promis
   if (filter.open === false) lots.whereNotNull('l.closed_at')
   const { rows } = await db.raw(
     `
-    WITH lot AS (${lots.toQuery()}),
+    WITH lot AS ?,
     per_unit AS (
       SELECT u.lot_id,
              (array_agg(res.verdict ORDER BY r.uploaded_at, res.id))[1] AS first_verdict,
@@ -141,6 +141,8 @@ export async function listLotSummaries(db: Knex, filter: LotFilter = {}): Promis
            coalesce(pl.judged, 0) AS judged, coalesce(pl.final_pass, 0) AS final_pass, pl.last_at
       FROM lot LEFT JOIN per_lot pl ON pl.lot_id = lot.id
      ORDER BY lot.created_at DESC, lot.id DESC`,
+    // The filter's query as a bound subquery (its values stay bindings, never SQL text).
+    [lots],
   )
   const ratio = (a: string, b: string) => (Number(b) === 0 ? null : Number(a) / Number(b))
   return rows.map(
