@@ -13,7 +13,7 @@ import type { MailboxEntry } from '../../shared/types/mail'
 import type { UnitView } from '../../shared/types/api'
 import type { UnitSearchAnswer } from '../../shared/types/units'
 import { ROLE_LABELS, type Role } from '../../shared/utils/roles'
-import { resolveUnit } from '../../server/repos/units'
+import { findUnitIdsByPrefix, resolveUnit } from '../../server/repos/units'
 import { signIn, useTestServer } from '../support/app'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
@@ -45,6 +45,8 @@ const search = async (q: string, role: Role = 'support') => {
   const res = await api(`/api/units?q=${encodeURIComponent(q)}`, role)
   return { status: res.status, body: (await res.json()) as UnitSearchAnswer & { data?: { code: string } } }
 }
+
+const unitIds = async (serials: string[]) => Promise.all(serials.map(async (s) => Number((await testDb()('units').where({ serial: s }).first('id')).id)))
 
 function mailbox(): MailboxEntry[] {
   try {
@@ -105,6 +107,12 @@ describe('finding a unit', () => {
     expect(body.units.map((u) => u.serial)).toEqual([...prefixed].reverse())
     expect(body.units.every((u) => u.tests === 0 && u.verdict === null && u.lastTestedAt === null)).toBe(true)
     expect(body.more).toBe(false)
+  })
+
+  it('a prefix shared by more units than one index read takes lists the newest of the highest serials', async () => {
+    // The same function with a read of 2 rows, as a broad prefix of a million units meets a read of 5 000.
+    expect(await findUnitIdsByPrefix(testDb(), prefix.toLowerCase(), 10, 2)).toEqual({ ids: (await unitIds(prefixed.slice(1))).reverse(), more: true })
+    expect(await findUnitIdsByPrefix(testDb(), prefix, 2, 3)).toEqual({ ids: (await unitIds(prefixed.slice(1))).reverse(), more: true })
   })
 
   it('a mistyped serial is never tested here, with the real one nearest', async () => {
