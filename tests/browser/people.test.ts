@@ -1,0 +1,60 @@
+import { describe, expect, inject, it } from 'vitest'
+import { signInAs, useBrowser } from '../support/browser'
+import { unique } from '../support/db'
+
+const baseUrl = inject('baseUrl')
+const browser = useBrowser()
+
+describe('an admin in the browser', () => {
+  it('invites someone, who opens the link in a fresh browser, sets a password and is signed in; the admin finds it in the audit log', async () => {
+    const admin = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(admin, baseUrl, 'admin', '/people')
+    const email = `${unique('browser').toLowerCase()}@example.test`
+    await admin.fill('input[name=invite-email]', email)
+    await admin.selectOption('select[name=invite-role]', 'quality')
+    await admin.getByRole('button', { name: 'Send invitation' }).click()
+    const notice = admin.getByTestId('invitation-link')
+    await expect.poll(() => notice.textContent()).toContain('sent by e-mail')
+    const link = (await notice.locator('p.font-mono').textContent())!.trim()
+    expect(link).toMatch(/\/invite\/[A-Za-z0-9_-]{43}$/)
+    await expect.poll(() => admin.getByTestId('invitations-table').textContent()).toContain(email)
+
+    // The invited person: another browser context, no session, no cookies.
+    const context = await browser().newContext()
+    const guest = await context.newPage()
+    await guest.goto(link)
+    await expect.poll(() => guest.locator('form').textContent()).toContain(email)
+    await guest.fill('input[name=displayName]', 'Browser Invitee')
+    await guest.fill('input[name=password]', 'short')
+    await guest.fill('input[name=repeat]', 'short')
+    await guest.getByRole('button', { name: 'Create my account' }).click()
+    await expect.poll(() => guest.getByTestId('invite-problem').textContent()).toContain('At least 12 characters')
+    await guest.fill('input[name=password]', 'a long browser password')
+    await guest.fill('input[name=repeat]', 'a long browser password')
+    await guest.getByRole('button', { name: 'Create my account' }).click()
+    // Quality lands on its first page, signed in.
+    await guest.waitForURL((u) => u.pathname === '/lots')
+    await expect.poll(() => guest.getByTestId('user-name').textContent()).toContain('Browser Invitee')
+
+    // The link is used: opening it again says so.
+    const again = await (await browser().newContext()).newPage()
+    await again.goto(link)
+    await expect.poll(async () => again.getByTestId('invite-error').getAttribute('data-code')).toBe('invitation_used')
+    await again.context().close()
+    await context.close()
+
+    // The admin filters the audit log down to this person.
+    await admin.goto(new URL('/audit', baseUrl).toString())
+    await admin.fill('input[name=subject]', email)
+    await admin.selectOption('select[name=action]', 'invitation.accept')
+    await admin.getByRole('button', { name: 'Filter' }).click()
+    await expect.poll(() => admin.getByTestId('audit-count').textContent()).toMatch(/^1 entry/)
+    const row = admin.getByTestId('audit-row')
+    expect(await row.count()).toBe(1)
+    expect(await row.textContent()).toContain('Invitation accepted')
+    expect(await row.textContent()).toContain('Browser Invitee')
+    await admin.getByRole('button', { name: 'Clear' }).click()
+    await expect.poll(async () => Number((await admin.getByTestId('audit-count').textContent())!.split(' ')[0])).toBeGreaterThan(1)
+    await admin.close()
+  })
+})
