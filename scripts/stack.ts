@@ -33,6 +33,8 @@ export interface Stack {
   /** Where the local mail sink keeps what the server and workers send (starts empty). */
   mailboxDir: string
   env: Record<string, string>
+  /** The server's process id (benchmarks read its memory from /proc). */
+  serverPid: number
   startWorker(extraEnv?: Record<string, string>, stdout?: 'inherit' | 'pipe' | 'ignore'): ChildProcess
   stop(): Promise<void>
 }
@@ -103,6 +105,7 @@ export async function startStack(o: StackOptions): Promise<Stack> {
     dataDir: o.dataDir,
     mailboxDir: sink.dir,
     env,
+    serverPid: server.pid!,
     startWorker(extraEnv = {}, stdout = 'inherit') {
       const w = spawn(process.execPath, ['--import', 'tsx', resolve(root, 'workers/analyze.ts')], {
         cwd: root,

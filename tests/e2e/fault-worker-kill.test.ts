@@ -74,7 +74,7 @@ describe('SIGKILL of a worker in the middle of a job', () => {
     const product = await makeProduct(unique('P'), 6)
     const station = await makeStation()
     const N = 8
-    const ups = []
+    const ups: number[] = []
     // The uploads wait in the queue first, so the worker takes them as one batch.
     for (let i = 0; i < N; i++) {
       const up = await postRecording(host, tech, { serial: unique('WB'), product: product.code, station: station.id }, { bytes: generateRecording({ seed: 1510 + i }), name: `wb${i}.wav` })

@@ -26,7 +26,7 @@ describe('an accepted upload is never lost', () => {
   it('completes the job after its worker is killed mid-job and a worker starts again', async () => {
     const product = await makeProduct(unique('P'), 6)
     const station = await makeStation()
-    const stalled = startWorker({ hang: true })
+    const stalled = startWorker({ stall: 'before' })
     workers.push(stalled)
     await stalled.ready
 

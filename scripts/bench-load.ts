@@ -1,0 +1,229 @@
+/**
+ * npm run bench:load — a plant at full tilt on this machine: BENCH_STATIONS (30) simulated stations,
+ * each sending a new recording every BENCH_PERIOD_MS (200 ms) for BENCH_SECONDS (60 s), waiting for
+ * each answer and sending the same file again after a 503 or 429 with backoff, as station software
+ * does; plus BENCH_BROWSERS (10) people reading reports in a loop (lot list, lot report, dashboard,
+ * unit lookup); BENCH_WORKERS (1) analysis workers. Then it waits for the queue to drain (at most
+ * BENCH_DRAIN_S, 900 s) and prints accepted uploads, errors, upload-to-verdict latency and the
+ * server's peak memory, ending with exactly one line
+ *   load accepted=<n> errors=<n> lost=<n> p95_ms=<x> peak_rss_mb=<y>
+ * Its own stack: .data/bench-load, PostgreSQL on PGPORT + 4. BENCH_BUILD=0 reuses the last build.
+ */
+import { readFileSync } from 'node:fs'
+import { resolve } from 'node:path'
+import knex from 'knex'
+import { DEFAULT_PROFILE } from '../server/analysis/index'
+import { createProduct } from '../server/repos/products'
+import { createStation } from '../server/repos/stations'
+import { createMaskDraft, releaseMask } from '../server/repos/masks'
+import { DEFAULTS, loadConfig } from '../server/utils/config'
+import { DEMO_PASSWORD, demoEmail } from '../seeds/01-demo-users'
+import { generateRecording } from '../fixtures/generator'
+import { startStack } from './stack'
+
+const STATIONS = Number(process.env.BENCH_STATIONS) || 30
+const PERIOD_MS = Number(process.env.BENCH_PERIOD_MS) || 200
+const SECONDS = Number(process.env.BENCH_SECONDS) || 60
+const BROWSERS = Number(process.env.BENCH_BROWSERS) || 10
+const WORKERS = Number(process.env.BENCH_WORKERS) || 1
+const DRAIN_S = Number(process.env.BENCH_DRAIN_S) || 900
+/** A station gives one file up after this long without an answer it can use. */
+const STATION_GIVE_UP_MS = 120_000
+const LOTS = 6
+/** Fixture seeds far from every test file's range (the stack has its own database anyway). */
+const SEED_BASE = 100_000
+const PRODUCT = 'LOAD-6'
+
+/** A copy that differs in the least significant bits of its last samples: a new file each time (see bench-ingest). */
+function variant(wav: Buffer, n: number): Uint8Array<ArrayBuffer> {
+  const copy = new Uint8Array(new ArrayBuffer(wav.length))
+  copy.set(wav)
+  copy[copy.length - 3] = n & 0xff
+  copy[copy.length - 6] = (n >> 8) & 0xff
+  return copy
+}
+
+function percentile(sorted: number[], p: number): number {
+  if (!sorted.length) return NaN
+  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))]!
+}
+
+const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms))
+
+/** Resident memory of a process from /proc (Linux): the current and the peak (VmHWM), in MB. */
+function memoryMb(pid: number): { rss: number; peak: number } {
+  try {
+    const status = readFileSync(`/proc/${pid}/status`, 'utf8')
+    const kb = (field: string) => Number(new RegExp(`^${field}:\\s+(\\d+) kB`, 'm').exec(status)?.[1] ?? NaN)
+    return { rss: kb('VmRSS') / 1024, peak: kb('VmHWM') / 1024 }
+  } catch {
+    return { rss: NaN, peak: NaN }
+  }
+}
+
+interface StationTally {
+  sentAt: Map<number, number>
+  serials: string[]
+  retried: Map<string, number>
+  errors: string[]
+}
+
+async function main() {
+  const stack = await startStack({
+    dataDir: resolve(loadConfig().dataDir, 'bench-load'),
+    pgPort: (Number(process.env.PGPORT) || DEFAULTS.pgPort) + 4,
+    database: 'conetrail_load',
+    build: process.env.BENCH_BUILD !== '0',
+  })
+  const db = knex({ client: 'pg', connection: stack.databaseUrl, pool: { min: 0, max: 2 } })
+  const url = (path: string) => new URL(path, stack.baseUrl)
+  try {
+    const productId = await createProduct(db, { code: PRODUCT, name: 'Load benchmark driver', ratedImpedanceOhm: 6 })
+    const mask = await createMaskDraft(db, {
+      productId,
+      name: 'load',
+      limits: { scalars: { fsHz: { low: 20, high: 80 } }, polarityNormal: true, ratedImpedanceRule: true, curves: {} },
+      createdBy: null,
+    })
+    await releaseMask(db, mask, { by: null, comment: 'load benchmark' })
+    const stations = await Promise.all(Array.from({ length: STATIONS }, (_, i) => createStation(db, { name: `Load station ${i + 1}`, line: `line ${(i % LOTS) + 1}`, profile: DEFAULT_PROFILE, createdBy: null })))
+    console.log(`generating ${STATIONS} recordings (one per station; each upload is a distinct copy)...`)
+    const bases = stations.map((_, i) => generateRecording({ seed: SEED_BASE + i }))
+    const cookies: string[] = []
+    for (const role of ['quality', 'engineer'] as const) {
+      const res = await fetch(url('/api/auth/login'), { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: demoEmail(role), password: DEMO_PASSWORD }) })
+      if (!res.ok) throw new Error(`sign-in as ${role} failed: ${res.status}`)
+      cookies.push(res.headers.getSetCookie().map((c) => c.split(';')[0]).join('; '))
+    }
+    for (let i = 0; i < WORKERS; i++) stack.startWorker({}, 'ignore')
+    await sleep(2000)
+
+    let peakSampled = 0
+    const sampler = setInterval(() => {
+      peakSampled = Math.max(peakSampled, memoryMb(stack.serverPid).rss)
+    }, 250)
+
+    const t0 = Date.now()
+    const end = t0 + SECONDS * 1000
+    const tallies: StationTally[] = []
+    const stationRuns = stations.map(async (st, s) => {
+      const tally: StationTally = { sentAt: new Map(), serials: [], retried: new Map(), errors: [] }
+      tallies.push(tally)
+      for (let n = 1; ; n++) {
+        const due = t0 + (n - 1) * PERIOD_MS
+        if (due >= end) break
+        await sleep(due - Date.now())
+        const serial = `LD${String(s + 1).padStart(2, '0')}-${String(n).padStart(5, '0')}`
+        const bytes = variant(bases[s]!, n)
+        const started = Date.now()
+        for (let attempt = 0; ; attempt++) {
+          const form = new FormData()
+          form.append('serial', serial)
+          form.append('product', PRODUCT)
+          form.append('lot', `LOAD-L${(s % LOTS) + 1}`)
+          form.append('file', new Blob([bytes]), `${serial}.wav`)
+          let status = 0
+          let code = ''
+          let id = 0
+          try {
+            const res = await fetch(url('/api/recordings'), { method: 'POST', headers: { authorization: `Bearer ${st.token}` }, body: form })
+            status = res.status
+            const body = (await res.json()) as { id?: number; data?: { code?: string } }
+            id = body.id ?? 0
+            code = body.data?.code ?? ''
+          } catch (err) {
+            code = err instanceof Error ? err.message : String(err)
+          }
+          if (status === 202 || status === 200) {
+            tally.sentAt.set(id, started)
+            tally.serials.push(serial)
+            break
+          }
+          const retryable = status === 503 || status === 429 || status === 0
+          if (!retryable || Date.now() - started > STATION_GIVE_UP_MS) {
+            tally.errors.push(`${status} ${code}`)
+            break
+          }
+          const key = `${status} ${code}`.trim()
+          tally.retried.set(key, (tally.retried.get(key) ?? 0) + 1)
+          await sleep(Math.min(2000, 200 * 2 ** attempt))
+        }
+      }
+    })
+
+    const pages = { lots: [] as number[], lot: [] as number[], dashboard: [] as number[], unit: [] as number[] }
+    const pageErrors: string[] = []
+    const browserRuns = Array.from({ length: BROWSERS }, async (_, b) => {
+      const cookie = cookies[b % cookies.length]!
+      for (let k = 0; Date.now() < end; k++) {
+        const kind = (['lots', 'lot', 'dashboard', 'unit'] as const)[(k + b) % 4]!
+        const serials = tallies.flatMap((t) => t.serials.slice(-3))
+        const path =
+          kind === 'lots' ? '/api/lots'
+          : kind === 'lot' ? `/api/lots/LOAD-L${((k + b) % LOTS) + 1}`
+          : kind === 'dashboard' ? '/api/dashboard'
+          : serials.length ? `/api/units/${serials[(k * 7 + b) % serials.length]}` : '/api/lots'
+        const t = performance.now()
+        try {
+          const res = await fetch(url(path), { headers: { cookie } })
+          await res.arrayBuffer()
+          // A lot not started yet answers 404: a person looking early, not an error of the server.
+          if (res.ok || (res.status === 404 && kind === 'lot')) pages[kind].push(performance.now() - t)
+          else pageErrors.push(`${kind} ${res.status}`)
+        } catch (err) {
+          pageErrors.push(`${kind} ${err instanceof Error ? err.message : String(err)}`)
+        }
+        // Someone reading the page before the next click.
+        await sleep(300 + ((k * 37 + b * 11) % 400))
+      }
+    })
+    await Promise.all([...stationRuns, ...browserRuns])
+    const sendingS = (Date.now() - t0) / 1000
+
+    const sentAt = new Map<number, number>()
+    for (const t of tallies) for (const [id, at] of t.sentAt) sentAt.set(id, at)
+    const ids = [...sentAt.keys()]
+    const errors = tallies.flatMap((t) => t.errors)
+    const retried = new Map<string, number>()
+    for (const t of tallies) for (const [k, v] of t.retried) retried.set(k, (retried.get(k) ?? 0) + v)
+    console.log(`sent for ${sendingS.toFixed(1)} s: ${ids.length} accepted (${(ids.length / sendingS).toFixed(1)}/s; offered ${((STATIONS * 1000) / PERIOD_MS).toFixed(0)}/s), ${errors.length} errors${errors.length ? ` (${[...new Set(errors)].join(', ')})` : ''}`)
+    if (retried.size) console.log(`retried after: ${[...retried].map(([k, v]) => `${k} ×${v}`).join(', ')}`)
+
+    // Drain: wait until every accepted recording is finished (bounded).
+    const drainEnd = Date.now() + DRAIN_S * 1000
+    let finished = 0
+    while (Date.now() < drainEnd) {
+      const [{ c }] = await db('recordings').whereIn('status', ['done', 'rejected', 'failed']).count<{ c: string }[]>({ c: '*' })
+      finished = Number(c)
+      if (finished >= ids.length) break
+      await sleep(1000)
+    }
+    clearInterval(sampler)
+    const results: { recording_id: string; created: Date }[] = await db('results').select('recording_id', 'created_at as created')
+    const statuses: { status: string; n: string }[] = await db('recordings').groupBy('status').select('status').count({ n: '*' })
+    const latencies = results.filter((r) => sentAt.has(Number(r.recording_id))).map((r) => r.created.getTime() - sentAt.get(Number(r.recording_id))!).sort((a, b) => a - b)
+    const lost = ids.length - latencies.length
+    const lastResultS = (Math.max(...results.map((r) => r.created.getTime())) - t0) / 1000
+    const mem = memoryMb(stack.serverPid)
+    const peakMb = Math.max(mem.peak, peakSampled)
+
+    console.log(`recordings by status: ${statuses.map((s) => `${s.status} ${s.n}`).join(', ')}`)
+    console.log(`analysed ${latencies.length} by ${WORKERS} worker(s); the last result ${lastResultS.toFixed(1)} s after the start (${(latencies.length / lastResultS).toFixed(1)} units/s)`)
+    console.log(`upload→verdict ms: p50 ${percentile(latencies, 50)}, p95 ${percentile(latencies, 95)}, p99 ${percentile(latencies, 99)}, max ${latencies.at(-1)}`)
+    for (const [kind, list] of Object.entries(pages)) {
+      const s = list.sort((a, b) => a - b)
+      console.log(`report ${kind}: ${s.length} reads, p50 ${percentile(s, 50).toFixed(0)} ms, p95 ${percentile(s, 95).toFixed(0)} ms`)
+    }
+    if (pageErrors.length) console.log(`report errors: ${pageErrors.length} (${[...new Set(pageErrors)].slice(0, 5).join(', ')})`)
+    console.log(`server memory: peak ${peakMb.toFixed(0)} MB (VmHWM), now ${mem.rss.toFixed(0)} MB`)
+    console.log(`load accepted=${ids.length} errors=${errors.length + pageErrors.length} lost=${lost} p95_ms=${percentile(latencies, 95)} peak_rss_mb=${peakMb.toFixed(0)}`)
+  } finally {
+    await db.destroy()
+    await stack.stop()
+  }
+}
+
+main().catch((err: unknown) => {
+  console.error(err)
+  process.exit(1)
+})
