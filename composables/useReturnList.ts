@@ -1,0 +1,40 @@
+import type { ReturnCategoryView, ReturnSummary, ReturnView } from '#shared/types/returns'
+import type { ReturnCreateInput } from '#shared/utils/returns'
+
+export type ReturnListFilter = 'open' | 'closed' | 'all'
+
+/** The returns desk's list, by status (one cache entry per filter). */
+export function useReturnList(status: Ref<ReturnListFilter>, serial?: Ref<string>) {
+  const query = computed(() => ({ status: status.value, ...(serial?.value ? { serial: serial.value } : {}) }))
+  return useFetch<ReturnSummary[]>('/api/returns', {
+    query,
+    key: computed(() => `returns:${status.value}:${serial?.value ?? ''}`),
+    default: () => [],
+  })
+}
+
+/** Complaint categories: the active ones for the register form, every one for the admins' editor. */
+export function useReturnCategories(all = false) {
+  return useFetch<ReturnCategoryView[]>('/api/return-categories', { query: all ? { all: '1' } : {}, key: `return-categories:${all ? 'all' : 'active'}`, default: () => [] })
+}
+
+/** Registers a return; the server's message comes back as the error when it refuses. */
+export function useReturnRegister() {
+  const busy = ref(false)
+  const error = ref<string | null>(null)
+
+  async function register(input: ReturnCreateInput): Promise<ReturnView | null> {
+    busy.value = true
+    error.value = null
+    try {
+      return await $fetch<ReturnView>('/api/returns', { method: 'POST', body: input })
+    } catch (err) {
+      error.value = apiErrorOf(err).message
+      return null
+    } finally {
+      busy.value = false
+    }
+  }
+
+  return { busy, error, register }
+}
