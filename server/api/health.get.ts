@@ -1,3 +1,4 @@
+// access: public (load balancers and the test setup ask it without a session)
 import type { HealthResponse } from '../../shared/types/api'
 import { RETRY_AFTER_S } from '../utils/errors'
 
