@@ -68,4 +68,7 @@ export const AUDIT_ACTION_LABELS: Record<string, string> = {
   'lot.export_csv': 'Lot CSV exported',
   'lot.export_pdf': 'Lot report PDF exported',
   'lot.report_sent': 'Lot report e-mailed',
+  'certificate.download': 'Certificate downloaded',
+  'certificate.send': 'Certificate e-mailed',
+  'return.close': 'Return closed',
 }
