@@ -3,8 +3,10 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import { ROLES } from '../../shared/utils/roles'
 import type { AuditPage } from '../../shared/types/people'
+import type { StationView } from '../../shared/types/api'
 import { signIn, useTestServer } from '../support/app'
-import { makeProduct, testDb, unique } from '../support/db'
+import { makeProduct, makeStation, testDb, unique } from '../support/db'
+import { postRecording } from '../support/upload'
 
 const host = await useTestServer()
 let admin: string
@@ -49,6 +51,28 @@ describe('the audit log', () => {
     expect(JSON.stringify(rows)).not.toContain(station.token)
     expect(JSON.stringify(rows)).not.toContain(rotated.token)
     expect((await audit({ action: 'auth.sign_out', actor: 'engineer@demo', from: started })).body.total).toBeGreaterThan(0)
+  })
+
+  it('a replaced station token stops at once, and the station list shows the last upload', async () => {
+    const { cookie } = await signIn(host, demoEmail('admin'), DEMO_PASSWORD)
+    const station = await makeStation()
+    const product = await makeProduct()
+    const listed = async () => ((await (await fetch('/api/stations', { headers: { cookie } })).json()) as StationView[]).find((s) => s.id === station.id)!
+    expect((await listed()).lastUploadAt).toBeNull()
+    // An impedance table (30 points) made unique by its comment line.
+    const serial = unique('AUD')
+    const table = [`# ${serial}`, ...Array.from({ length: 30 }, (_, i) => `${(20 * 1.25 ** i).toFixed(2)}, ${(7 + 20 / (1 + Math.abs(i - 6))).toFixed(3)}`)].join('\n')
+    const before = Date.now() - 1000
+    const up = await postRecording(host, { token: station.token }, { serial, product: product.code }, { bytes: table, name: 'z.txt' })
+    expect(up.status, JSON.stringify(up.body)).toBe(202)
+    const last = (await listed()).lastUploadAt
+    expect(new Date(last!).getTime()).toBeGreaterThanOrEqual(before)
+
+    const rotated = await fetch(`/api/stations/${station.id}/token`, { method: 'POST', headers: { cookie } })
+    const { token } = (await rotated.json()) as { token: string }
+    const asStation = (t: string) => fetch('/api/recordings?limit=1', { headers: { authorization: `Bearer ${t}` } })
+    expect((await asStation(station.token)).status).toBe(401)
+    expect((await asStation(token)).status).toBe(200)
   })
 
   it('records role changes and (de)activation with before and after', async () => {
