@@ -44,9 +44,13 @@ export default defineNuxtConfig({
     requestSizeLimiter: { maxRequestSizeInBytes: 2_000_000, maxUploadFileRequestInBytes: 8_000_000 },
   },
   routeRules: {
-    // Uploads: formidable streams the body to disk and stops at CONETRAIL_MAX_UPLOAD_MB (64 MB by
-    // default) with 413 `too_large`, counting real bytes rather than trusting Content-Length.
+    // Upload routes (every route calling readMultipartUpload; a test checks the list): formidable
+    // streams the body to disk and stops at the route's own limit (CONETRAIL_MAX_UPLOAD_MB, 64 MB by
+    // default; CONETRAIL_MAX_ATTACHMENT_MB) with 413 `too_large`, counting real bytes rather than
+    // trusting Content-Length, so nuxt-security's fixed limit stays out of their way.
     '/api/recordings': { security: { requestSizeLimiter: false } },
+    '/api/returns/*/retest': { security: { requestSizeLimiter: false } },
+    '/api/returns/*/attachments': { security: { requestSizeLimiter: false } },
   },
   css: [
     '@fontsource/source-sans-3/400.css',

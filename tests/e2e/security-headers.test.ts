@@ -102,6 +102,15 @@ describe('the code itself', () => {
     expect(vue.filter((f) => /\bv-html\b|innerHTML/.test(readFileSync(f, 'utf8'))).map((f) => f.slice(root.length + 1))).toEqual([])
   })
 
+  it('lets every upload route (readMultipartUpload) past the fixed body limit, so its own limit answers', () => {
+    const config = readFileSync(join(root, 'nuxt.config.ts'), 'utf8')
+    const uploads = files('server/api', '.ts')
+      .filter((f) => readFileSync(f, 'utf8').includes('readMultipartUpload('))
+      .map((f) => `/api/${f.slice(join(root, 'server/api').length + 1).replace(/\.(post|put|patch)\.ts$/, '').replace(/\/index$/, '').replace(/\[[^\]]+\]/g, '*')}`)
+    expect(uploads).toContain('/api/recordings')
+    expect(uploads.filter((u) => !config.includes(`'${u}': { security: { requestSizeLimiter: false } }`))).toEqual([])
+  })
+
   it('builds no SQL from interpolated text: every raw query passes values as bindings', () => {
     const ts = [...files('server', '.ts'), ...files('workers', '.ts')]
     const raw = /\b(?:raw|whereRaw|orderByRaw|havingRaw|joinRaw|selectRaw)\(\s*`(?:[^`\\]|\\.)*\$\{/
