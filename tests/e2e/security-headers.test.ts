@@ -64,11 +64,16 @@ describe('security headers and content security policy', () => {
     const upload = await fetch('/api/recordings', { method: 'POST', headers: { cookie }, body: form })
     expect(upload.status).toBe(413)
     expect(((await upload.json()) as { data: { code: string } }).data.code).toBe('too_large')
+    // The same through a route with a parameter (a return's retest, as support).
+    const support = await signInCookie({}, demoEmail('support'))
+    const retest = await fetch('/api/returns/1/retest', { method: 'POST', headers: { cookie: support.cookie }, body: form })
+    expect(retest.status).toBe(413)
+    expect(((await retest.json()) as { data: { code: string } }).data.code).toBe('too_large')
   })
 })
 
-async function signInCookie(extra: Record<string, string> = {}) {
-  const res = await fetch('/api/auth/login', { method: 'POST', headers: { 'content-type': 'application/json', ...extra }, body: JSON.stringify({ email: demoEmail('technician'), password: DEMO_PASSWORD }) })
+async function signInCookie(extra: Record<string, string> = {}, email = demoEmail('technician')) {
+  const res = await fetch('/api/auth/login', { method: 'POST', headers: { 'content-type': 'application/json', ...extra }, body: JSON.stringify({ email, password: DEMO_PASSWORD }) })
   expect(res.status).toBe(200)
   const set = res.headers.getSetCookie().find((c) => c.startsWith('nuxt-session=') && !/nuxt-session=;/.test(c))!
   return { cookie: set.split(';')[0]!, set }
