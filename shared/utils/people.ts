@@ -35,8 +35,6 @@ export const personPatchSchema = z
   .refine((p) => p.role !== undefined || p.active !== undefined, { message: 'Give a role or active' })
 export type PersonPatch = z.infer<typeof personPatchSchema>
 
-export const AUDIT_PAGE_SIZES = [25, 50, 100, 200] as const
-
 export const auditQuerySchema = z.object({
   from: z.iso.datetime({ offset: true }).optional(),
   to: z.iso.datetime({ offset: true }).optional(),
