@@ -109,13 +109,17 @@ async function main() {
     const stationRuns = stations.map(async (st, s) => {
       const tally: StationTally = { sentAt: new Map(), serials: [], retried: new Map(), errors: [] }
       tallies.push(tally)
+      // A unit is ready every PERIOD_MS; a station still waiting for an answer sends the next one
+      // as soon as the answer comes (units do not pile up: the line waits for the station), and
+      // stops when the minute is over.
+      let due = t0
       for (let n = 1; ; n++) {
-        const due = t0 + (n - 1) * PERIOD_MS
-        if (due >= end) break
+        if (due >= end || Date.now() >= end) break
         await sleep(due - Date.now())
         const serial = `LD${String(s + 1).padStart(2, '0')}-${String(n).padStart(5, '0')}`
         const bytes = variant(bases[s]!, n)
         const started = Date.now()
+        due = Math.max(due + PERIOD_MS, started)
         for (let attempt = 0; ; attempt++) {
           const form = new FormData()
           form.append('serial', serial)
