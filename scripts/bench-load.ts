@@ -3,7 +3,7 @@
  * each sending a new recording every BENCH_PERIOD_MS (200 ms) for BENCH_SECONDS (60 s), waiting for
  * each answer and sending the same file again after a 503 or 429 with backoff, as station software
  * does; plus BENCH_BROWSERS (10) people reading reports in a loop (lot list, lot report, dashboard,
- * unit lookup); BENCH_WORKERS (1) analysis workers. Then it waits for the queue to drain (at most
+ * unit lookup); BENCH_WORKERS (2) analysis workers. Then it waits for the queue to drain (at most
  * BENCH_DRAIN_S, 900 s) and prints accepted uploads, errors, upload-to-verdict latency and the
  * server's peak memory, ending with exactly one line
  *   load accepted=<n> errors=<n> lost=<n> p95_ms=<x> peak_rss_mb=<y>
@@ -25,7 +25,7 @@ const STATIONS = Number(process.env.BENCH_STATIONS) || 30
 const PERIOD_MS = Number(process.env.BENCH_PERIOD_MS) || 200
 const SECONDS = Number(process.env.BENCH_SECONDS) || 60
 const BROWSERS = Number(process.env.BENCH_BROWSERS) || 10
-const WORKERS = Number(process.env.BENCH_WORKERS) || 1
+const WORKERS = Number(process.env.BENCH_WORKERS) || 2
 const DRAIN_S = Number(process.env.BENCH_DRAIN_S) || 900
 /** A station gives one file up after this long without an answer it can use. */
 const STATION_GIVE_UP_MS = 120_000
