@@ -9,7 +9,7 @@
  *   load accepted=<n> errors=<n> lost=<n> p95_ms=<x> peak_rss_mb=<y>
  * Its own stack: .data/bench-load, PostgreSQL on PGPORT + 4. BENCH_BUILD=0 reuses the last build.
  */
-import { readFileSync } from 'node:fs'
+import { readFileSync, rmSync } from 'node:fs'
 import { resolve } from 'node:path'
 import knex from 'knex'
 import { DEFAULT_PROFILE } from '../server/analysis/index'
@@ -69,8 +69,11 @@ interface StationTally {
 }
 
 async function main() {
+  const dataDir = resolve(loadConfig().dataDir, 'bench-load')
+  // The database starts empty each run; so do the stored recordings (about 1 GB a run).
+  for (const dir of ['recordings', 'tmp']) rmSync(resolve(dataDir, dir), { recursive: true, force: true })
   const stack = await startStack({
-    dataDir: resolve(loadConfig().dataDir, 'bench-load'),
+    dataDir,
     pgPort: (Number(process.env.PGPORT) || DEFAULTS.pgPort) + 4,
     database: 'conetrail_load',
     build: process.env.BENCH_BUILD !== '0',
@@ -224,6 +227,7 @@ async function main() {
   } finally {
     await db.destroy()
     await stack.stop()
+    rmSync(resolve(dataDir, 'recordings'), { recursive: true, force: true })
   }
 }
 
