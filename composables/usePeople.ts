@@ -11,24 +11,17 @@ export function useInvitations() {
 
 /** The admin's changes on the People page: invite, withdraw, new role, (de)activate. */
 export function usePeopleAdmin() {
-  const error = ref<string | null>(null)
-  const busy = ref(false)
+  const { busy, error, run: act } = useAction()
   /** The invitation just made, with its link: shown once. */
   const created = ref<InvitationCreated | null>(null)
 
   async function run<T>(fn: () => Promise<T>): Promise<T | undefined> {
-    error.value = null
-    busy.value = true
-    try {
-      const out = await fn()
+    let out: T | undefined
+    await act(async () => {
+      out = await fn()
       await Promise.all([refreshNuxtData('people'), refreshNuxtData('invitations')])
-      return out
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-      return undefined
-    } finally {
-      busy.value = false
-    }
+    })
+    return out
   }
 
   return {

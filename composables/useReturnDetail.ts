@@ -21,24 +21,15 @@ export function refreshReturn(id: number): Promise<void> {
 
 /** A mutation of one return (attachment, re-test, close): busy flag, the server's message on refusal, refresh after. */
 export function useReturnAction(id: Ref<number>) {
-  const busy = ref(false)
-  const error = ref<string | null>(null)
+  const { busy, error, run: act } = useAction()
 
   /** Posts to /api/returns/:id/<path>; true when the server took it. */
-  async function run(path: 'attachments' | 'retest' | 'close', body: FormData | ReturnCloseInput): Promise<boolean> {
-    busy.value = true
-    error.value = null
-    try {
+  function run(path: 'attachments' | 'retest' | 'close', body: FormData | ReturnCloseInput): Promise<boolean> {
+    return act(async () => {
       const url: string = `/api/returns/${id.value}/${path}`
       await $fetch(url, { method: 'POST', body })
       await refreshReturn(id.value)
-      return true
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-      return false
-    } finally {
-      busy.value = false
-    }
+    })
   }
 
   return { busy, error, run }

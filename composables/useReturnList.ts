@@ -20,20 +20,14 @@ export function useReturnCategories(all = false) {
 
 /** Registers a return; the server's message comes back as the error when it refuses. */
 export function useReturnRegister() {
-  const busy = ref(false)
-  const error = ref<string | null>(null)
+  const { busy, error, run } = useAction()
 
   async function register(input: ReturnCreateInput): Promise<ReturnView | null> {
-    busy.value = true
-    error.value = null
-    try {
-      return await $fetch<ReturnView>('/api/returns', { method: 'POST', body: input })
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-      return null
-    } finally {
-      busy.value = false
-    }
+    let created: ReturnView | null = null
+    await run(async () => {
+      created = await $fetch<ReturnView>('/api/returns', { method: 'POST', body: input })
+    })
+    return created
   }
 
   return { busy, error, register }

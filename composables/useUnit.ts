@@ -35,31 +35,9 @@ export function certificateUrl(serial: string): string {
 
 /** E-mails a unit's certificate; the server's message comes back as the error when it refuses. */
 export function useCertificateSend(serial: Ref<string>) {
-  const busy = ref(false)
-  const error = ref<string | null>(null)
-  const sentTo = ref<string[] | null>(null)
-
-  async function send(recipientsText: string, message: string): Promise<boolean> {
-    const to = recipientsText.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean)
-    error.value = null
-    sentTo.value = null
-    if (!to.length) {
-      error.value = 'Add at least one e-mail address.'
-      return false
-    }
-    busy.value = true
-    try {
-      const url: string = `/api/units/${encodeURIComponent(serial.value)}/certificate/send`
-      const sent = await $fetch<CertificateSent>(url, { method: 'POST', body: { to, ...(message.trim() ? { message: message.trim() } : {}) } })
-      sentTo.value = sent.recipients
-      return true
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-      return false
-    } finally {
-      busy.value = false
-    }
-  }
-
-  return { busy, error, sentTo, send }
+  return useMailSend(async (to, message) => {
+    const url: string = `/api/units/${encodeURIComponent(serial.value)}/certificate/send`
+    const sent = await $fetch<CertificateSent>(url, { method: 'POST', body: { to, ...(message ? { message } : {}) } })
+    return sent.recipients
+  })
 }

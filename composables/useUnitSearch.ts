@@ -22,8 +22,7 @@ export function unitPath(serial: string): string {
  * (several hits) or the "never tested here" answer with the nearest serials.
  */
 export function useUnitLookup() {
-  const busy = ref(false)
-  const error = ref<string | null>(null)
+  const { busy, error, run } = useAction()
 
   async function lookUp(raw: string): Promise<boolean> {
     error.value = null
@@ -32,18 +31,11 @@ export function useUnitLookup() {
       error.value = q ? `Type at least ${SEARCH_MIN_CHARS} characters of the serial.` : 'A serial holds letters, digits and - _ . only.'
       return false
     }
-    busy.value = true
-    try {
+    return run(async () => {
       const answer = await $fetch<UnitSearchAnswer>(SEARCH_URL, { query: { q } })
       const only = answer.units.length === 1 ? answer.units[0] : undefined
       await navigateTo(only ? unitPath(only.serial) : { path: '/units', query: { q: answer.query } })
-      return true
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-      return false
-    } finally {
-      busy.value = false
-    }
+    })
   }
 
   return { busy, error, lookUp }
