@@ -25,23 +25,28 @@ export function useAction() {
 
 /**
  * An e-mail form (lot report, certificate): recipients typed one per line or separated by commas
- * or semicolons; `post` sends them and answers who the mail went to.
+ * or semicolons, an optional message; `post` sends them and answers who the mail went to.
  */
 export function useMailSend(post: (recipients: string[], message?: string) => Promise<string[]>) {
   const { busy, error, run } = useAction()
   const sentTo = ref<string[] | null>(null)
+  const recipients = ref('')
+  const message = ref('')
 
-  async function send(recipientsText: string, message: string): Promise<boolean> {
-    const recipients = recipientsText.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean)
+  /** Sends what the form holds and clears it once the mail is out. */
+  async function submit(): Promise<boolean> {
+    const to = recipients.value.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean)
     sentTo.value = null
-    if (!recipients.length) {
+    if (!to.length) {
       error.value = 'Add at least one e-mail address.'
       return false
     }
-    return run(async () => {
-      sentTo.value = await post(recipients, message.trim() || undefined)
+    const done = await run(async () => {
+      sentTo.value = await post(to, message.value.trim() || undefined)
     })
+    if (done) recipients.value = message.value = ''
+    return done
   }
 
-  return { busy, error, sentTo, send }
+  return { recipients, message, busy, error, sentTo, submit }
 }

@@ -78,6 +78,12 @@ describe('finding a unit from any page', () => {
     expect(await page.getByTestId('unit-test').count()).toBe(1)
     expect(await page.getByTestId('test-mask').first().textContent()).toBe('v1')
     expect(await page.getByTestId('unit-certificate').locator('a[download]').getAttribute('href')).toBe(`/api/units/${serials[0]}/certificate.pdf`)
+    // E-mailed from the page: the form says who it went to and empties itself for the next one.
+    const send = page.getByTestId('certificate-send')
+    await send.locator('input[name=certificate-to]').fill('buyer@example.test')
+    await send.getByRole('button', { name: 'Send certificate' }).click()
+    await expect.poll(() => page.getByTestId('unit-certificate').getByRole('status').textContent()).toContain('buyer@example.test')
+    expect(await send.locator('input[name=certificate-to]').inputValue()).toBe('')
     await page.getByTestId('unit-curves').locator('canvas').first().waitFor()
     await shot(page, 'unit-record')
     // Printed, the record keeps its tests, figures and curves and drops the menus, search and forms.
