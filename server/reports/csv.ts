@@ -23,7 +23,7 @@ export function neutraliseCell(value: unknown): string {
 
 export const CSV_COLUMNS = [
   'serial', 'product', 'lot', 'first_test_at', 'last_test_at', 'tests', 'first_verdict', 'final_verdict', 'failed_checks',
-  'fs_hz', 're20_ohm', 'qts', 'sensitivity_db', 'thd_max_pct', 'rub_buzz_db',
+  'fs_hz', 're20_ohm', 'qts', 'sensitivity_db', 'thd_max_pct', 'rub_buzz_db', 'returns',
 ] as const
 
 /** The CSV text of a lot's units (header row first, CRLF line ends). */
@@ -31,7 +31,7 @@ export function lotUnitsCsv(rows: readonly LotUnitRow[]): string {
   const data = rows.map((r) =>
     [
       r.serial, r.product, r.lot, r.firstTestAt, r.lastTestAt, r.tests, r.firstVerdict ?? '', r.finalVerdict ?? '', r.failedChecks.join(' '),
-      r.fsHz, r.re20Ohm, r.qts, r.sensitivityDb, r.thdMaxPct, r.rubBuzzDb,
+      r.fsHz, r.re20Ohm, r.qts, r.sensitivityDb, r.thdMaxPct, r.rubBuzzDb, r.returns,
     ].map(neutraliseCell),
   )
   return Papa.unparse({ fields: [...CSV_COLUMNS], data }, { newline: '\r\n', quotes: false })

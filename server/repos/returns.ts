@@ -312,6 +312,16 @@ export async function countLotReturns(db: Knex, lotId: number): Promise<{ return
   return { returns: Number(r?.returns ?? 0), returnedUnits: Number(r?.returned_units ?? 0) }
 }
 
+/** Returns registered per unit of a lot, by serial (units never returned are absent). */
+export async function countReturnsPerUnit(db: Knex, lotId: number): Promise<Map<string, number>> {
+  const rows: { serial: string; returns: string }[] = await db('returns as r')
+    .join('units as u', 'u.id', 'r.unit_id')
+    .where('u.lot_id', lotId)
+    .groupBy('u.serial')
+    .select('u.serial', db.raw('count(*) as returns'))
+  return new Map(rows.map((r) => [r.serial, Number(r.returns)]))
+}
+
 /**
  * Per product with at least one return: its units (every unit is registered by its first test),
  * returns and returned units.

@@ -4,7 +4,7 @@ import { CHECK_LABELS, type MaskLimits } from '../../shared/utils/mask.ts'
 import { listCauses } from '../repos/causes.ts'
 import { getLotByCode, listGoldenFigures, listLotResults, listLotSummaries, type LotFilter, type LotResultRow, type LotRow } from '../repos/lots.ts'
 import { getActiveMask } from '../repos/masks.ts'
-import { countLotReturns } from '../repos/returns.ts'
+import { countLotReturns, countReturnsPerUnit } from '../repos/returns.ts'
 import {
   StatsError,
   capability,
@@ -252,12 +252,15 @@ export interface LotUnitRow {
   sensitivityDb: number | null
   thdMaxPct: number | null
   rubBuzzDb: number | null
+  /** Returns from the field registered for this unit. */
+  returns: number
 }
 
 /** Every unit of a lot in production order, one row each (CSV export); undefined for an unknown lot. */
 export async function getLotUnitRows(db: Knex, lotCode: string): Promise<{ lot: LotReport['lot']; rows: LotUnitRow[] } | undefined> {
   const loaded = await loadLot(db, lotCode)
   if (!loaded) return undefined
+  const returns = await countReturnsPerUnit(db, loaded.lot.id)
   const rows = loaded.units.map((u): LotUnitRow => {
     const first = u.results[0]!
     const latest = u.results[u.results.length - 1]!
@@ -278,6 +281,7 @@ export async function getLotUnitRows(db: Knex, lotCode: string): Promise<{ lot: 
       sensitivityDb: latest.sensitivityDb,
       thdMaxPct: latest.thdMaxPct,
       rubBuzzDb: latest.rubBuzzDb,
+      returns: returns.get(u.serial) ?? 0,
     }
   })
   return { lot: lotView(loaded.lot), rows }

@@ -1,5 +1,6 @@
 import { existsSync, readdirSync } from 'node:fs'
 import { join, resolve } from 'node:path'
+import Papa from 'papaparse'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { inject } from 'vitest'
 import { DEMO_DRIVER, generateRecording, type Defect, type DriverModel } from '../../fixtures/generator'
@@ -289,6 +290,9 @@ describe('re-test through the pipeline, compare, close', () => {
     expect(lots.find((l) => l.code === lotCode)).toMatchObject({ unitsTested: 3, finalYield: 1 })
     const dash = await json<DashboardView>(await call('quality', '/api/dashboard'))
     expect(dash.returnsByProduct.find((p) => p.productCode === product.code)).toEqual({ productCode: product.code, unitsTested: 3, returns: 2, returnedUnits: 2, returnRate: 2 / 3 })
+    // The lot's CSV: each unit's returns, and the return test is not one of its production tests.
+    const csv = Papa.parse<Record<string, string>>(await (await call('quality', `/api/lots/${lotCode}/export.csv`)).text(), { header: true, skipEmptyLines: true })
+    expect(csv.data.map((r) => [r.serial, r.tests, r.returns])).toEqual(expect.arrayContaining([[serials.A, '1', '1'], [serials.B, '1', '0'], [serials.C, '1', '1']]))
   })
 
   it('compares the return test with the factory test: deltas in % and trade-practice readings', async () => {

@@ -53,15 +53,16 @@ const base: LotUnitRow = {
   sensitivityDb: 87.1,
   thdMaxPct: 1.2,
   rubBuzzDb: -62.5,
+  returns: 0,
 }
 
 describe('lotUnitsCsv', () => {
   it('writes the header and one row per unit, numbers as numbers', () => {
-    const csv = lotUnitsCsv([base, { ...base, serial: 'AB12-000124', tests: 1, firstVerdict: 'fail', finalVerdict: 'fail', failedChecks: ['polarity', 'fsHz'], fsHz: null }])
+    const csv = lotUnitsCsv([base, { ...base, serial: 'AB12-000124', tests: 1, firstVerdict: 'fail', finalVerdict: 'fail', failedChecks: ['polarity', 'fsHz'], fsHz: null, returns: 2 }])
     const lines = csv.split('\r\n')
     expect(lines[0]).toBe(CSV_COLUMNS.join(','))
-    expect(lines[1]).toBe('AB12-000123,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,2,fail,pass,,41.25,5.8,0.42,87.1,1.2,-62.5')
-    expect(lines[2]).toBe('AB12-000124,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,1,fail,fail,polarity fsHz,,5.8,0.42,87.1,1.2,-62.5')
+    expect(lines[1]).toBe('AB12-000123,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,2,fail,pass,,41.25,5.8,0.42,87.1,1.2,-62.5,0')
+    expect(lines[2]).toBe('AB12-000124,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,1,fail,fail,polarity fsHz,,5.8,0.42,87.1,1.2,-62.5,2')
     expect(lines).toHaveLength(3)
   })
 
