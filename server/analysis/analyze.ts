@@ -5,7 +5,9 @@ import { parseImpedanceTable } from './impedance-table.ts'
 import { stationProfileSchema, type ChannelRole, type StationProfile } from './profile.ts'
 import {
   fitSmallSignal,
+  lowestMeasurableFsHz,
   reAt20C,
+  resonanceAtBottom,
   seedSmallSignal,
   type ClassicalResult,
   type FitResult,
@@ -194,6 +196,36 @@ function fitImpedance(freqHz: number[], re: number[] | null, im: number[] | null
   return { fit: ok ? fit : null, classical: seeded.classical }
 }
 
+const hz = (f: number): string => (f < 100 ? f.toFixed(1) : f.toFixed(0))
+
+/**
+ * Withholds a fit whose resonance lies too close to the bottom of the data: at or below the lowest
+ * fitted frequency, or less than half an octave above the start of the measurement (see
+ * lowestMeasurableFsHz). Returns the figures to report and, when withheld, the note saying why.
+ */
+function gateLowResonance(
+  fig: ImpedanceFigures,
+  data: { freqHz: number[]; re: number[] | null; mag: number[] },
+  what: 'sweep' | 'table',
+  sweepStartHz = 0,
+): { fig: ImpedanceFigures; note: string | null } {
+  const lowest = data.freqHz[0]
+  if (lowest === undefined) return { fig, note: null }
+  const start = what === 'sweep' ? sweepStartHz : lowest
+  const limit = lowestMeasurableFsHz(start, lowest)
+  const fs = fig.fit?.fsHz
+  const none: ImpedanceFigures = { fit: null, classical: null }
+  const bottom = what === 'sweep' ? `the sweep's lowest valid frequency (${hz(lowest)} Hz): start the sweep lower.` : `the table's lowest frequency (${hz(lowest)} Hz): export the table from lower down.`
+  if (fs !== undefined && fs >= limit) return { fig, note: null }
+  if (fs !== undefined && fs > lowest) {
+    const whose = what === 'sweep' ? `the sweep start (${hz(start)} Hz)` : `the table's first frequency (${hz(start)} Hz)`
+    const fix = what === 'sweep' ? 'start the sweep at' : 'export the table from'
+    return { fig: none, note: `Resonance near ${hz(fs)} Hz, less than half an octave above ${whose}: ${fix} ${hz(fs / Math.SQRT2)} Hz or lower for a trustworthy Fs and Qms.` }
+  }
+  if (fs !== undefined || resonanceAtBottom(data.freqHz, data.re, data.mag)) return { fig: none, note: `Resonance at or below ${bottom}` }
+  return { fig, note: null }
+}
+
 function applyFit(params: AnalysisParameters, fig: ImpedanceFigures, ambientC: number | undefined): void {
   const f = fig.fit
   if (!f) return
@@ -351,12 +383,12 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
       zim.push((-R * yi) / d)
       zmag.push(R / Math.sqrt(d))
     }
-    const fig = fitImpedance(fre, zre, zim, zmag)
+    const { fig, note } = gateLowResonance(fitImpedance(fre, zre, zim, zmag), { freqHz: fre, re: zre, mag: zmag }, 'sweep', sweep.f1Hz)
     classical = fig.classical
     applyFit(params, fig, options.ambientC)
     if (!fig.fit) {
       unmeasured.push('small_signal')
-      notes.push('The impedance shows no resonance peak to fit.')
+      notes.push(note ?? 'The impedance shows no resonance peak to fit.')
     }
     if (curves.impedanceOhm && params.fsHz) {
       const zm = zminAbove(freqHz, curves.impedanceOhm, params.fsHz)
@@ -651,7 +683,8 @@ export function analyzeImpedanceTable(text: string, options: Pick<AnalyzeOptions
   const idx = tf.map((f, i) => i).filter((i) => tf[i]! <= FIT_HIGH_HZ)
   const pick = <T>(a: T[]): T[] => idx.map((i) => a[i]!)
   const tFit = performance.now()
-  const fig = fitImpedance(pick(tf), re && pick(re), im && pick(im), pick(magOhm))
+  const fitData = { freqHz: pick(tf), re: re && pick(re), mag: pick(magOhm) }
+  const { fig, note } = gateLowResonance(fitImpedance(fitData.freqHz, fitData.re, im && pick(im), fitData.mag), fitData, 'table')
   applyFit(params, fig, options.ambientC)
   const fitMs = performance.now() - tFit
   curves.impedanceOhm = grid.map((f) => interpTable(tf, magOhm, f))
@@ -667,7 +700,7 @@ export function analyzeImpedanceTable(text: string, options: Pick<AnalyzeOptions
   const notes = ['Impedance table: no acoustic result.']
   if (!fig.fit) {
     unmeasured.push('small_signal')
-    notes.push('The table shows no resonance peak to fit.')
+    notes.push(note ?? 'The table shows no resonance peak to fit.')
   }
   if (!phaseDeg) notes.push('No phase column: the fit used the magnitude only.')
   const total = performance.now() - tStart

@@ -96,6 +96,34 @@ export function classicalThreePoint(
   reOhm: number,
   range: [number, number] = [0, Number.POSITIVE_INFINITY],
 ): ClassicalResult | null {
+  const c = peakAndCrossings(freqHz, magOhm, reOhm, range)
+  if (c === null || c.f1 === null || c.f2 === null) return null
+  return classicalFrom(reOhm, c.zmax, c.fZmax, c.f1, c.f2)
+}
+
+function classicalFrom(reOhm: number, zmax: number, fZmax: number, f1: number, f2: number): ClassicalResult {
+  const r0 = zmax / reOhm
+  const fs = Math.sqrt(f1 * f2)
+  const qms = (fs * Math.sqrt(r0)) / (f2 - f1)
+  const qes = qms / (r0 - 1)
+  return { reOhm, zmaxOhm: zmax, fZmaxHz: fZmax, fsHz: fs, f1Hz: f1, f2Hz: f2, qms, qes, qts: qtsOf(qms, qes) }
+}
+
+interface PeakCrossings {
+  zmax: number
+  fZmax: number
+  /** Where |Z| falls to √(Re·Zmax) below and above the peak; null when the data end first. */
+  f1: number | null
+  f2: number | null
+}
+
+/** The refined peak of |Z| within `range` and its two √(Re·Zmax) crossings. */
+function peakAndCrossings(
+  freqHz: readonly number[],
+  magOhm: readonly number[],
+  reOhm: number,
+  range: [number, number],
+): PeakCrossings | null {
   let iMax = -1
   for (let i = 0; i < freqHz.length; i++) {
     if (freqHz[i]! < range[0] || freqHz[i]! > range[1]) continue
@@ -135,14 +163,7 @@ export function classicalThreePoint(
     }
     return null
   }
-  const f1 = crossing(-1)
-  const f2 = crossing(1)
-  if (f1 === null || f2 === null) return null
-  const r0 = zmax / reOhm
-  const fs = Math.sqrt(f1 * f2)
-  const qms = (fs * Math.sqrt(r0)) / (f2 - f1)
-  const qes = qms / (r0 - 1)
-  return { reOhm, zmaxOhm: zmax, fZmaxHz: fZmax, fsHz: fs, f1Hz: f1, f2Hz: f2, qms, qes, qts: qtsOf(qms, qes) }
+  return { zmax, fZmax, f1: crossing(-1), f2: crossing(1) }
 }
 
 export interface FitResult extends SmallSignalParams {
@@ -339,7 +360,8 @@ const PEAK_WINDOW_RATIO = Math.pow(2, 1 / 3)
  * Index of the mechanical resonance. With phase, the peak of the resistive part (the inductance
  * adds none in this model). With magnitude only, the lowest-frequency peak that is the maximum
  * within ±1/3 octave and stands well above the minimum (a large Le can make |Z| at the top of the
- * band exceed Zmax, so the global maximum is not enough).
+ * band exceed Zmax, so the global maximum is not enough). Near the bottom of the data the window
+ * is cut short, but the peak still needs a lower neighbour no higher than itself.
  */
 export function findResonance(freqHz: readonly number[], re: readonly number[] | null, mag: readonly number[]): number {
   const n = freqHz.length
@@ -359,7 +381,6 @@ export function findResonance(freqHz: readonly number[], re: readonly number[] |
     while (freqHz[j0]! < f / PEAK_WINDOW_RATIO) j0++
     if (j1 < i) j1 = i
     while (j1 + 1 < n && freqHz[j1 + 1]! <= f * PEAK_WINDOW_RATIO) j1++
-    if (j0 === 0 && freqHz[0]! > f / PEAK_WINDOW_RATIO) continue // window runs off the bottom
     if (j1 === n - 1) break
     let isMax = true
     for (let j = j0; j <= j1 && isMax; j++) if (mag[j]! > mag[i]!) isMax = false
@@ -379,7 +400,7 @@ export function seedSmallSignal(
   re: readonly number[] | null,
   im: readonly number[] | null,
   mag: readonly number[],
-): { seed: SmallSignalParams; classical: ClassicalResult } | null {
+): { seed: SmallSignalParams; classical: ClassicalResult | null } | null {
   const n = freqHz.length
   const iPeak = findResonance(freqHz, re, mag)
   const fPeak = freqHz[iPeak]!
@@ -394,10 +415,17 @@ export function seedSmallSignal(
     for (let i = iPeak; i < n; i++) reOhm = Math.min(reOhm, src[i]!)
   }
   if (!(reOhm > 0) || !Number.isFinite(reOhm)) return null
-  const classical = classicalThreePoint(freqHz, mag, reOhm, [fPeak / RESONANCE_SEARCH_RATIO, fPeak * RESONANCE_SEARCH_RATIO])
-  if (classical === null) return null
+  const pc = peakAndCrossings(freqHz, mag, reOhm, [fPeak / RESONANCE_SEARCH_RATIO, fPeak * RESONANCE_SEARCH_RATIO])
+  if (pc === null || (pc.f1 === null && pc.f2 === null)) return null
+  // The motional impedance is symmetric in log f about Fs (Small 1972 model), so when the data
+  // end before one crossing (a resonance near the bottom of the band), that crossing is mirrored
+  // about the peak: a seed only, and no classical figures are reported from it.
+  const classical = pc.f1 !== null && pc.f2 !== null ? classicalFrom(reOhm, pc.zmax, pc.fZmax, pc.f1, pc.f2) : null
+  const f1 = pc.f1 ?? (pc.fZmax * pc.fZmax) / pc.f2!
+  const f2 = pc.f2 ?? (pc.fZmax * pc.fZmax) / pc.f1!
+  const start = classical ?? classicalFrom(reOhm, pc.zmax, pc.fZmax, f1, f2)
   // Le from the top decade of the data: the reactance left after the motional part.
-  const base: SmallSignalParams = { reOhm, leH: 0, fsHz: classical.fsHz, qms: classical.qms, qes: classical.qes }
+  const base: SmallSignalParams = { reOhm, leH: 0, fsHz: start.fsHz, qms: start.qms, qes: start.qes }
   const estimates: number[] = []
   const fTop = freqHz[n - 1]!
   for (let i = 0; i < n; i++) {
@@ -410,4 +438,38 @@ export function seedSmallSignal(
   estimates.sort((a, b) => a - b)
   const leH = estimates.length ? Math.max(estimates[estimates.length >> 1]!, 1e-7) : 1e-4
   return { seed: { ...base, leH }, classical }
+}
+
+/**
+ * How far below Fs the measurement must start for a trustworthy Fs and Qms: about half an octave
+ * (common practice: the sweep starts at least half an octave below the resonance).
+ */
+export const MIN_START_OCTAVES_BELOW_FS = 0.5
+/** Least stretch of fitted data below the resonance, octaves (ours: about eight points at 48 per octave). */
+export const MIN_FLANK_OCTAVES = 1 / 6
+
+/** Lowest Fs reported when the measurement starts at startHz and its fitted data at lowestHz. */
+export function lowestMeasurableFsHz(startHz: number, lowestHz: number): number {
+  return Math.max(startHz * Math.pow(2, MIN_START_OCTAVES_BELOW_FS), lowestHz * Math.pow(2, MIN_FLANK_OCTAVES))
+}
+
+/**
+ * True when the resistive part (or the modulus without phase) is highest within the lowest sixth of
+ * an octave of the data and stands above its minimum by a tenth or more (ours: far above measurement
+ * noise, yet met by the upper flank of a sharp resonance well below the data): the resonance lies at
+ * or below the data.
+ */
+const BOTTOM_PEAK_RATIO = 1.1
+
+export function resonanceAtBottom(freqHz: readonly number[], re: readonly number[] | null, mag: readonly number[]): boolean {
+  const src = re ?? mag
+  const n = freqHz.length
+  if (n < 3) return false
+  let iMax = 0
+  let min = Number.POSITIVE_INFINITY
+  for (let i = 0; i < n; i++) {
+    if (src[i]! > src[iMax]!) iMax = i
+    min = Math.min(min, src[i]!)
+  }
+  return freqHz[iMax]! <= freqHz[0]! * Math.pow(2, MIN_FLANK_OCTAVES) && src[iMax]! >= BOTTOM_PEAK_RATIO * min
 }
