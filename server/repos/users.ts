@@ -1,5 +1,6 @@
 import type { Knex } from 'knex'
 import type { Role } from '../../shared/utils/roles'
+import type { PersonSummary } from '../../shared/types/api'
 import type { PersonView } from '../../shared/types/people'
 
 export interface UserRow {
@@ -17,16 +18,7 @@ export interface UserRow {
 }
 
 /** Public view of a user (never the hash). */
-export interface UserSummary {
-  id: number
-  email: string
-  displayName: string
-  role: Role
-  active: boolean
-  lastLoginAt: string | null
-}
-
-export function toSummary(row: UserRow): UserSummary {
+export function toSummary(row: UserRow): PersonSummary {
   return {
     id: Number(row.id),
     email: row.email,
@@ -47,11 +39,6 @@ export async function getUserByEmail(db: Knex, email: string): Promise<UserRow |
 
 export async function getUserById(db: Knex, id: number): Promise<UserRow | undefined> {
   return db<UserRow>('users').where({ id: String(id) }).first()
-}
-
-export async function listUsers(db: Knex): Promise<UserSummary[]> {
-  const rows = await db<UserRow>('users').orderBy([{ column: 'role' }, { column: 'email' }])
-  return rows.map(toSummary)
 }
 
 export interface NewUser {

@@ -1,6 +1,7 @@
 import type { H3Event } from 'h3'
 import type { User } from '#auth-utils'
-import { getStationByToken, type StationSummary } from '../repos/stations'
+import { getStation, getStationByToken, type StationSummary } from '../repos/stations'
+import type { UploadSource } from '../services/ingest'
 import type { Role } from '../../shared/utils/roles'
 import { useDb } from './db'
 import { httpError } from './errors'
@@ -19,4 +20,20 @@ export async function requireUserOrStation(event: H3Event, ...roles: Role[]): Pr
     return { kind: 'station', station }
   }
   return { kind: 'user', user: await requireRole(event, ...roles) }
+}
+
+/** A station as the ingest service takes it: its id, current profile and that profile's id. */
+export function uploadStation(station: StationSummary | undefined): UploadSource['station'] {
+  return station ? { id: station.id, profileId: station.profileId, profile: station.profile } : null
+}
+
+/**
+ * The station a signed-in person chose for an upload (none chosen: undefined).
+ * @throws 422 `unknown_station` when it does not exist or is retired.
+ */
+export async function chosenStation(id: number | undefined): Promise<StationSummary | undefined> {
+  if (id === undefined) return undefined
+  const station = await getStation(useDb(), id)
+  if (!station?.active) throw httpError(422, 'unknown_station', `No active station with id ${id}`)
+  return station
 }

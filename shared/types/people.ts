@@ -1,13 +1,8 @@
 import type { Role } from '../utils/roles'
+import type { PersonSummary } from './api'
 
 /** A person as the People page shows them (never the password hash). */
-export interface PersonView {
-  id: number
-  email: string
-  displayName: string
-  role: Role
-  active: boolean
-  lastLoginAt: string | null
+export interface PersonView extends PersonSummary {
   createdAt: string
   deactivatedAt: string | null
   /** Display name of the admin who deactivated them. */

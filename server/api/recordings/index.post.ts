@@ -1,6 +1,5 @@
 import { rm } from 'node:fs/promises'
 import { acceptUpload } from '../../services/ingest'
-import { getStation } from '../../repos/stations'
 import { uploadFieldsSchema } from '../../../shared/utils/bench'
 import type { UploadAccepted } from '../../../shared/types/api'
 
@@ -10,20 +9,16 @@ export default defineEventHandler(async (event) => {
   try {
     const input = parseInput(uploadFieldsSchema, fields)
     if (!file) throw httpError(400, 'missing_file', 'Attach the recording in a form field named "file"')
-    const db = useDb()
-    let station = caller.kind === 'station' ? caller.station : undefined
-    if (station && input.station !== undefined && input.station !== station.id) {
+    const tokenStation = caller.kind === 'station' ? caller.station : undefined
+    if (tokenStation && input.station !== undefined && input.station !== tokenStation.id) {
       throw httpError(403, 'wrong_station', 'This token belongs to another station')
     }
-    if (!station && input.station !== undefined) {
-      station = await getStation(db, input.station)
-      if (!station?.active) throw httpError(422, 'unknown_station', `No active station with id ${input.station}`)
-    }
-    const outcome = await acceptUpload(db, useRecordingStorage(), await useBoss(), {
+    const station = tokenStation ?? (await chosenStation(input.station))
+    const outcome = await acceptUpload(useDb(), useRecordingStorage(), await useBoss(), {
       tempPath: file.path,
       originalName: file.originalName,
       fields: input,
-      station: station ? { id: station.id, profileId: station.profileId, profile: station.profile } : null,
+      station: uploadStation(station),
       userId: caller.kind === 'user' ? caller.user.id : null,
     })
     setResponseStatus(event, outcome.duplicate ? 200 : 202)

@@ -1,5 +1,4 @@
 import { rm } from 'node:fs/promises'
-import { getStation } from '../../../repos/stations'
 import { retestReturn } from '../../../services/returns'
 import { idParamSchema } from '../../../../shared/utils/bench'
 import { returnRetestFieldsSchema } from '../../../../shared/utils/returns'
@@ -13,13 +12,12 @@ export default defineEventHandler(async (event) => {
   try {
     const input = parseInput(returnRetestFieldsSchema, fields)
     if (!file) throw httpError(400, 'missing_file', 'Attach the recording in a form field named "file"')
-    const station = input.station === undefined ? undefined : await getStation(useDb(), input.station)
-    if (input.station !== undefined && !station?.active) throw httpError(422, 'unknown_station', `No active station with id ${input.station}`)
+    const station = await chosenStation(input.station)
     const outcome = await retestReturn(useDb(), useRecordingStorage(), await useBoss(), id, {
       tempPath: file.path,
       originalName: file.originalName,
       fields: input,
-      station: station ? { id: station.id, profileId: station.profileId, profile: station.profile } : null,
+      station: uploadStation(station),
       userId: user.id,
     })
     setResponseStatus(event, outcome.duplicate ? 200 : 202)
