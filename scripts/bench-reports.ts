@@ -5,9 +5,11 @@
  * Fills about 1 000 000 production results over 500 lots with set-based SQL (INSERT … SELECT over
  * generate_series; no files: the reports read only rows), then times, as medians of several runs:
  * a lot report (getLotReport, in process), the dashboard (getDashboard, in process) and a serial
- * lookup (GET /api/units/:serial over HTTP with a session cookie). Ends with
- *   reports lot_ms=<x> dashboard_ms=<y> lookup_ms=<z>
- * Targets: lot ≤ 300 ms, dashboard ≤ 500 ms, lookup ≤ 20 ms.
+ * lookup (GET /api/units/:serial over HTTP with a session cookie) and the search box's answer
+ * (GET /api/units?q= for prefixes and for mistyped serials, which ask for the nearest serials).
+ * Ends with
+ *   reports lot_ms=<x> dashboard_ms=<y> lookup_ms=<z> search_ms=<s>
+ * Targets: lot ≤ 300 ms, dashboard ≤ 500 ms, lookup ≤ 20 ms, search ≤ 50 ms (our targets).
  * Options: BENCH_BUILD=0 reuses the last build; BENCH_UNITS_PER_LOT (default 1960).
  */
 import { resolve } from 'node:path'
@@ -198,7 +200,20 @@ async function main() {
       })
       if (i > 0) lookupMs.push(ms)
     }
-    summary = (`reports lot_ms=${median(lotMs).toFixed(0)} dashboard_ms=${median(dashMs).toFixed(0)} lookup_ms=${median(lookupMs).toFixed(1)}`)
+    const searchMs: number[] = []
+    for (let i = 0; i <= LOOKUPS; i++) {
+      const lot = String(1 + ((i * 53) % LOTS)).padStart(4, '0')
+      const unit = String(1 + ((i * 97) % UNITS_PER_LOT)).padStart(5, '0')
+      // Even: a prefix (a lot's first units); odd: a serial with two digits swapped (nearest serials).
+      const q = i % 2 === 0 ? `BL-${lot}-00` : `BL-${lot}-${unit.slice(0, 3)}${unit[4]}${unit[3]}`
+      const ms = await timed(async () => {
+        const res = await fetch(new URL(`/api/units?q=${encodeURIComponent(q)}`, stack.baseUrl), { headers: { cookie } })
+        if (res.status !== 200) throw new Error(`search ${q}: ${res.status}`)
+        await res.arrayBuffer()
+      })
+      if (i > 0) searchMs.push(ms)
+    }
+    summary = (`reports lot_ms=${median(lotMs).toFixed(0)} dashboard_ms=${median(dashMs).toFixed(0)} lookup_ms=${median(lookupMs).toFixed(1)} search_ms=${median(searchMs).toFixed(1)}`)
   } finally {
     await db.destroy()
     await stack.stop()
