@@ -40,8 +40,8 @@ const MASK_LIMITS: MaskLimitsInput = {
 }
 /**
  * A softened suspension: Fs down 13 %, Qms down 20 % (invented fault size, beyond the common-practice
- * thresholds of 10 % and 15 %). Not lower: with the 20 Hz sweep the engine fits no resonance below
- * about 37 Hz for this driver (its lower half-power point leaves the fit range).
+ * thresholds of 10 % and 15 %). It stays well above the lowest Fs a 20 Hz sweep measures (28.3 Hz,
+ * half an octave above the sweep start; tests/unit/analysis/low-resonance.test.ts).
  */
 const TIRED: DriverModel = { ...DEMO_DRIVER, fsHz: DEMO_DRIVER.fsHz * 0.87, qms: DEMO_DRIVER.qms * 0.8 }
 
