@@ -33,8 +33,7 @@ export const DEFAULT_PROPOSAL: MaskProposalDraft = {
 
 /** Creates a draft from the picked golden units (same schema as the route), then opens it. */
 export function useMaskCreate() {
-  const error = ref<string | null>(null)
-  const busy = ref(false)
+  const { busy, error, run } = useAction()
 
   async function create(product: string | null, goldenSerials: string[], d: MaskProposalDraft) {
     error.value = null
@@ -58,16 +57,11 @@ export function useMaskCreate() {
       error.value = parsed.error.issues.map((i) => (i.path.length ? `${i.path.join('.')}: ${i.message}` : i.message)).join('; ')
       return
     }
-    busy.value = true
-    try {
+    await run(async () => {
       const mask = await $fetch<MaskView>('/api/masks', { method: 'POST', body: parsed.data })
       await refreshNuxtData('masks')
       await navigateTo(`/masks/${mask.id}`)
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-    } finally {
-      busy.value = false
-    }
+    })
   }
 
   return { error, busy, create }

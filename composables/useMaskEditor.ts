@@ -29,29 +29,20 @@ export async function useMaskEditor(id: number) {
   const key = `mask-${id}`
   const res = await useFetch<MaskView>(url, { key })
   const limits = ref<MaskLimitsDraft | null>(null)
-  const error = ref<string | null>(null)
+  const { busy, error, run: act } = useAction()
   const notice = ref<string | null>(null)
-  const busy = ref(false)
 
   watch(res.data, (m) => (limits.value = m ? clone(m.limits) : null), { immediate: true })
   const editable = computed(() => res.data.value?.status === 'draft')
   const dirty = computed(() => !!res.data.value && !!limits.value && JSON.stringify(limits.value) !== JSON.stringify(res.data.value.limits))
 
-  async function run(fn: () => Promise<unknown>): Promise<boolean> {
-    error.value = null
+  function run(fn: () => Promise<unknown>): Promise<boolean> {
     notice.value = null
-    busy.value = true
-    try {
+    return act(async () => {
       await fn()
       // The overview and the products' active mask change with every state change.
       await Promise.all([res.refresh(), refreshNuxtData(['masks', 'mask-products'])])
-      return true
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-      return false
-    } finally {
-      busy.value = false
-    }
+    })
   }
 
   function validLimits() {

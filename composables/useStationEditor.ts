@@ -46,23 +46,16 @@ export function profileOf(d: ProfileDraft) {
 
 /** Create, edit (a new profile version) and token rotation for the Stations page. */
 export function useStationEditor() {
-  const error = ref<string | null>(null)
-  const busy = ref(false)
+  const { busy, error, run: act } = useAction()
   const issued = ref<{ name: string; token: string } | null>(null)
 
   async function run<T>(fn: () => Promise<T>): Promise<T | undefined> {
-    error.value = null
-    busy.value = true
-    try {
-      const out = await fn()
+    let out: T | undefined
+    await act(async () => {
+      out = await fn()
       await refreshNuxtData('stations')
-      return out
-    } catch (err) {
-      error.value = apiErrorOf(err).message
-      return undefined
-    } finally {
-      busy.value = false
-    }
+    })
+    return out
   }
 
   const create = (name: string, line: string, draft: ProfileDraft) =>
