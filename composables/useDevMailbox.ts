@@ -7,7 +7,9 @@ export function useDevMailbox() {
 
 /** One message of the local mailbox, fetched when `id` is set. */
 export function useDevMailboxMessage(id: Ref<string | null>) {
-  return useAsyncData<MailboxMessage | null>('dev-mailbox-message', () => (id.value ? $fetch<MailboxMessage>(`/api/dev/mailbox/${id.value}`) : Promise.resolve(null)), {
+  // useRequestFetch forwards the session cookie when this runs on the server.
+  const fetcher = useRequestFetch()
+  return useAsyncData<MailboxMessage | null>('dev-mailbox-message', () => (id.value ? fetcher<MailboxMessage>(`/api/dev/mailbox/${id.value}`) : Promise.resolve(null)), {
     watch: [id],
     default: () => null,
   })

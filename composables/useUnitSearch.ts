@@ -5,9 +5,11 @@ const SEARCH_URL = '/api/units'
 
 /** The search answer for the units page's `q`; null while the box is empty (nothing is asked then). */
 export function useUnitSearch(q: Ref<string>) {
+  // useRequestFetch: on a full page load the server-side call carries the visitor's session cookie ($fetch would not).
+  const fetcher = useRequestFetch()
   return useAsyncData<UnitSearchAnswer | null>(
     () => `unit-search:${q.value}`,
-    () => (q.value ? $fetch<UnitSearchAnswer>(SEARCH_URL, { query: { q: q.value } }) : Promise.resolve(null)),
+    () => (q.value ? fetcher<UnitSearchAnswer>(SEARCH_URL, { query: { q: q.value } }) : Promise.resolve(null)),
     { watch: [q] },
   )
 }

@@ -147,4 +147,16 @@ describe('finding a unit from any page', () => {
     expect(await page.getByTestId('unit-certificate').count()).toBe(0)
     await page.close()
   })
+  it('a full page load of /units?q=<prefix> shows the list to a signed-in person', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'support', '/units')
+    // Typed into the address bar: the server renders the page and must ask the API as this person.
+    const response = await page.goto(new URL(`/units?q=${encodeURIComponent(prefix)}`, baseUrl).toString())
+    expect(await response?.text()).not.toContain('Sign in first')
+    const list = page.getByTestId('unit-list')
+    await list.waitFor()
+    expect(await list.getByTestId('unit-hit').count()).toBe(2)
+    expect(await page.locator('main').textContent()).not.toContain('Sign in first')
+    await page.close()
+  })
 })
