@@ -6,8 +6,9 @@
  * prints the file's path. Uses Debian's pg_dump (/usr/lib/postgresql/<version>/bin) like
  * scripts/db.ts, else the one on PATH. The database must be running (npm run db:start).
  *
- * Raw recordings live outside the database, in <data dir>/recordings. With --with-recordings the
- * script also writes conetrail-<timestamp>-recordings.tar beside the dump, AFTER the dump: a file
+ * Raw recordings and the photos/documents attached to returns live outside the database, in
+ * <data dir>/recordings and <data dir>/attachments. With --with-recordings the script also writes
+ * both folders into conetrail-<timestamp>-recordings.tar beside the dump, AFTER the dump: a file
  * is stored before its row commits, so every recording the dump knows is in the archive (files
  * added in between are harmless extras). Stored files never change, so an incremental copy
  * (rsync) of that folder after each dump is the cheaper choice for a large store.
@@ -19,6 +20,9 @@ import { fileURLToPath } from 'node:url'
 import { loadConfig, type ConetrailConfig } from '../server/utils/config'
 import { findPgBin } from './db'
 import { loadEnvFile } from './env-file'
+
+/** The folders of stored files (under the data dir) that the archive holds. */
+export const FILE_FOLDERS = ['recordings', 'attachments'] as const
 
 const root = resolve(fileURLToPath(import.meta.url), '../..')
 
@@ -79,13 +83,12 @@ export async function backup(cfg: ConetrailConfig, opts: { out?: string; withRec
   }
   let recordings: string | null = null
   if (opts.withRecordings) {
-    const store = join(cfg.dataDir, 'recordings')
     recordings = dump.replace(/\.dump$/, '') + '-recordings.tar'
     const tmp = `${recordings}.partial`
     try {
       // An empty store still gives an archive, so a restore finds what it expects.
-      mkdirSync(store, { recursive: true })
-      await run('tar', ['-cf', tmp, '-C', cfg.dataDir, 'recordings'], process.env)
+      for (const folder of FILE_FOLDERS) mkdirSync(join(cfg.dataDir, folder), { recursive: true })
+      await run('tar', ['-cf', tmp, '-C', cfg.dataDir, ...FILE_FOLDERS], process.env)
       chmodSync(tmp, 0o600)
       renameSync(tmp, recordings)
     } finally {

@@ -6,14 +6,14 @@
  * that holds tables is left alone unless --yes is given: then it is dropped (open sessions ended)
  * and created again before the restore. Stop the server and the workers first when restoring the
  * database they use. With --recordings, the archive's files are unpacked into <data dir>/recordings
- * (files already there are kept; stored files never change). Prints the restored counts.
+ * and <data dir>/attachments (files already there are kept; stored files never change). Prints the restored counts.
  */
 import { existsSync, mkdirSync } from 'node:fs'
 import { resolve } from 'node:path'
 import { fileURLToPath } from 'node:url'
 import pg from 'pg'
 import { loadConfig, withDatabase } from '../server/utils/config'
-import { libpqTarget, pgTool, run } from './db-backup'
+import { FILE_FOLDERS, libpqTarget, pgTool, run } from './db-backup'
 import { loadEnvFile } from './env-file'
 
 const root = resolve(fileURLToPath(import.meta.url), '../..')
@@ -100,9 +100,12 @@ async function main() {
   const archive = valueOf('--recordings')
   if (archive) {
     mkdirSync(cfg.dataDir, { recursive: true })
-    // An existing stored file is never overwritten (GNU tar --skip-old-files).
-    await run('tar', ['-xf', resolve(archive), '-C', cfg.dataDir, '--skip-old-files', 'recordings'], process.env)
-    log(`recordings unpacked into ${resolve(cfg.dataDir, 'recordings')}`)
+    // Only our folders are unpacked (an archive from before attachments holds recordings only);
+    // an existing stored file is never overwritten (GNU tar --skip-old-files).
+    const listed = await run('tar', ['-tf', resolve(archive)], process.env)
+    const folders = FILE_FOLDERS.filter((f) => listed.split('\n').some((l) => l === f || l.startsWith(`${f}/`)))
+    await run('tar', ['-xf', resolve(archive), '-C', cfg.dataDir, '--skip-old-files', ...folders], process.env)
+    log(`${folders.join(' and ')} unpacked into ${resolve(cfg.dataDir)}`)
   }
 }
 

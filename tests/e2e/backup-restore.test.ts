@@ -1,5 +1,5 @@
 import { execFile } from 'node:child_process'
-import { existsSync, mkdirSync, rmSync, statSync } from 'node:fs'
+import { existsSync, mkdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs'
 import { join, resolve } from 'node:path'
 import knex, { type Knex } from 'knex'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
@@ -106,6 +106,10 @@ describe('npm run db:backup and db:restore', () => {
     // Every file a row points to (the worker-recovery test deletes one on purpose).
     const present = keys.filter((k) => existsSync(join(inject('dataDir'), 'recordings', k)))
     expect(present.length).toBeGreaterThanOrEqual(3)
+    // A photo attached to a return lives beside the recordings and travels with them.
+    const photo = join('test-backup', `${unique('photo')}.png`)
+    mkdirSync(join(inject('dataDir'), 'attachments', 'test-backup'), { recursive: true })
+    writeFileSync(join(inject('dataDir'), 'attachments', photo), 'stand-in bytes')
     const dump = join(backupDir, 'files.dump')
     const b = await script('db-backup.ts', ['--with-recordings', '--out', dump])
     expect(b.code, b.stderr).toBe(0)
@@ -119,5 +123,6 @@ describe('npm run db:backup and db:restore', () => {
     const r = await script('db-restore.ts', [dump, '--database', restoredName, '--yes', '--recordings', archive], elsewhere)
     expect(r.code, r.stderr).toBe(0)
     expect(present.filter((k) => !existsSync(join(elsewhere, 'recordings', k)))).toEqual([])
+    expect(readFileSync(join(elsewhere, 'attachments', photo), 'utf8')).toBe('stand-in bytes')
   }, 60_000)
 })
