@@ -18,11 +18,11 @@ import {
   updateReturn,
   updateReturnCategory,
 } from '../repos/returns.ts'
-import { getUnitBySerial } from '../repos/units.ts'
+import { findUnitIdsBySerialIgnoringCase } from '../repos/units.ts'
 import { newAttachmentKey, sniffAttachmentType, type AttachmentStorage } from '../storage/attachments.ts'
 import type { RecordingStorage } from '../storage/recordings.ts'
 import type { ReturnAttachmentView, ReturnCategoryView, ReturnView } from '../../shared/types/returns.ts'
-import type { ReturnCloseInput, ReturnCreateInput, ReturnPatchInput } from '../../shared/utils/returns.ts'
+import { RETURN_DISPOSITION_LABELS, receivedOnProblem, type ReturnCloseInput, type ReturnCreateInput, type ReturnPatchInput } from '../../shared/utils/returns.ts'
 import { acceptUpload, UploadRefused, type UploadOutcome } from './ingest.ts'
 
 /**
@@ -34,26 +34,61 @@ export class ReturnError extends UploadRefused {}
 const closedError = (id: number) => new ReturnError(409, 'return_closed', `Return ${id} is closed: it cannot change`)
 const unknownReturn = (id: number) => new ReturnError(404, 'unknown_return', `No return ${id}`)
 
+/** The audit subject of a return: its id and the unit's serial, so that filtering by serial finds it. */
+const auditSubject = (id: number, serial: string) => `return ${id} of ${serial}`
+
+/** @throws ReturnError 400 `received_in_future` or `received_too_early`. */
+function requirePlausibleReceivedOn(date: string): void {
+  const problem = receivedOnProblem(date)
+  if (problem) throw new ReturnError(400, problem.code, problem.message)
+}
+
+/**
+ * The unit a serial (already normalised like the search box's, shared/utils/units.ts) names: the one
+ * spelled so, else the only one spelled the same but for case.
+ */
+async function unitForSerial(db: Knex, serial: string): Promise<{ id: number; serial: string } | undefined> {
+  const same = await findUnitIdsBySerialIgnoringCase(db, serial)
+  if (same[0]?.serial === serial || same.length === 1) return same[0]
+  if (same.length > 1) throw new ReturnError(422, 'ambiguous_serial', `Several units are spelled ${serial} but for upper and lower case: type the serial exactly as on the label`)
+  return undefined
+}
+
 async function requireActiveCategory(db: Knex, id: number): Promise<void> {
   const c = await getReturnCategory(db, id)
   if (!c || !c.active) throw new ReturnError(422, 'unknown_category', `No active complaint category ${id}`)
 }
 
 /**
- * Registers a return of a known unit.
- * @throws ReturnError 422 `unknown_serial` (never tested here), `unknown_category`.
+ * Registers a return of a known unit (the serial's case ignored, as in the search box) and writes
+ * the audit log, in one transaction.
+ * @throws ReturnError 400 `received_in_future`, `received_too_early`; 422 `unknown_serial` (never
+ *   tested here), `ambiguous_serial`, `unknown_category`.
  */
 export async function registerReturn(db: Knex, input: ReturnCreateInput, by: number | null): Promise<ReturnView> {
-  const unit = await getUnitBySerial(db, input.serial)
+  requirePlausibleReceivedOn(input.receivedOn)
+  const unit = await unitForSerial(db, input.serial)
   if (!unit) throw new ReturnError(422, 'unknown_serial', `Unit ${input.serial} has never been tested here: check the serial on the label`)
-  await requireActiveCategory(db, input.categoryId)
-  const id = await insertReturn(db, {
-    unitId: Number(unit.id),
-    receivedOn: input.receivedOn,
-    customerRef: input.customerRef,
-    categoryId: input.categoryId,
-    complaint: input.complaint,
-    createdBy: by,
+  const id = await db.transaction(async (trx) => {
+    await requireActiveCategory(trx, input.categoryId)
+    const newId = await insertReturn(trx, {
+      unitId: unit.id,
+      receivedOn: input.receivedOn,
+      customerRef: input.customerRef,
+      categoryId: input.categoryId,
+      complaint: input.complaint,
+      createdBy: by,
+    })
+    const category = (await getReturnCategory(trx, input.categoryId))!.label
+    await writeAudit(trx, {
+      userId: by,
+      action: 'return.register',
+      entity: 'return',
+      entityId: newId,
+      subject: auditSubject(newId, unit.serial),
+      detail: { serial: unit.serial, received: input.receivedOn, category, customerReference: input.customerRef || null },
+    })
+    return newId
   })
   return (await getReturnView(db, id))!
 }
@@ -68,13 +103,20 @@ export async function getReturn(db: Knex, id: number): Promise<ReturnView> {
  * Edits an open return.
  * @throws ReturnError 404 `unknown_return`, 409 `return_closed`, 422 `unknown_category`.
  */
-export async function editReturn(db: Knex, id: number, change: ReturnPatchInput): Promise<ReturnView> {
+export async function editReturn(db: Knex, id: number, change: ReturnPatchInput, by: number | null = null): Promise<ReturnView> {
+  if (change.receivedOn !== undefined) requirePlausibleReceivedOn(change.receivedOn)
   await db.transaction(async (trx) => {
     const r = await getReturnRow(trx, id, { forUpdate: true })
     if (!r) throw unknownReturn(id)
     if (r.status !== 'open') throw closedError(id)
     if (change.categoryId !== undefined) await requireActiveCategory(trx, change.categoryId)
     await updateReturn(trx, id, change)
+    const detail: Record<string, unknown> = { serial: r.serial }
+    if (change.receivedOn !== undefined) detail.received = change.receivedOn
+    if (change.customerRef !== undefined) detail.customerReference = change.customerRef
+    if (change.categoryId !== undefined) detail.category = (await getReturnCategory(trx, change.categoryId))!.label
+    if (change.complaint !== undefined) detail.complaint = change.complaint
+    await writeAudit(trx, { userId: by, action: 'return.edit', entity: 'return', entityId: id, subject: auditSubject(id, r.serial), detail })
   })
   return getReturn(db, id)
 }
@@ -100,7 +142,15 @@ export async function closeReturn(db: Knex, id: number, input: ReturnCloseInput,
     if (r.status !== 'open') throw closedError(id)
     if (causeClass && !(await causeClassExists(trx, causeClass))) throw new ReturnError(422, 'unknown_cause_class', `No likely-cause class ${causeClass}`)
     await closeReturnRow(trx, id, { disposition, cause, causeClass, note, closedBy: by })
-    await writeAudit(trx, { userId: by, action: 'return.close', entity: 'return', entityId: id, comment: note, detail: { serial: r.serial, disposition, cause, causeClass } })
+    await writeAudit(trx, {
+      userId: by,
+      action: 'return.close',
+      entity: 'return',
+      entityId: id,
+      subject: auditSubject(id, r.serial),
+      comment: note,
+      detail: { serial: r.serial, disposition: RETURN_DISPOSITION_LABELS[disposition], cause, causeClass },
+    })
   })
   return getReturn(db, id)
 }
@@ -164,6 +214,14 @@ export async function addReturnAttachment(
       })
       await storage.putFile(key, file.path)
       stored = true
+      await writeAudit(trx, {
+        userId: by,
+        action: 'return.attach',
+        entity: 'return',
+        entityId: id,
+        subject: auditSubject(id, r.serial),
+        detail: { serial: r.serial, file: file.originalName.slice(0, 255), type: type, size: file.size },
+      })
       return newId
     })
     const { storageKey: _key, ...view } = (await getReturnAttachment(db, id, attachmentId))!
@@ -203,7 +261,7 @@ export async function retestReturn(db: Knex, storage: RecordingStorage, boss: Pg
     await rm(src.tempPath, { force: true })
     throw unknownReturn(id)
   }
-  return acceptUpload(db, storage, boss, {
+  const outcome = await acceptUpload(db, storage, boss, {
     tempPath: src.tempPath,
     originalName: src.originalName,
     fields: { serial: src.fields.serial || r.serial, ambientC: src.fields.ambientC, note: src.fields.note },
@@ -211,24 +269,53 @@ export async function retestReturn(db: Knex, storage: RecordingStorage, boss: Pg
     userId: src.userId,
     returnId: id,
   })
+  if (!outcome.duplicate) {
+    await writeAudit(db, {
+      userId: src.userId,
+      action: 'return.retest',
+      entity: 'return',
+      entityId: id,
+      subject: auditSubject(id, r.serial),
+      detail: { serial: r.serial, recording: outcome.id, file: src.originalName.slice(0, 255), station: src.station?.id ?? null },
+    })
+  }
+  return outcome
 }
 
 // ---- Categories (admins) ----
 
-/** @throws ReturnError 409 `category_exists` for a label already used. */
-export async function addReturnCategory(db: Knex, c: { label: string; sortOrder?: number }): Promise<ReturnCategoryView> {
+const labelRequired = () => new ReturnError(400, 'label_required', 'Give the complaint category a name')
+
+/** @throws ReturnError 400 `label_required`, 409 `category_exists` for a label already used. */
+export async function addReturnCategory(db: Knex, c: { label: string; sortOrder?: number }, by: number | null = null): Promise<ReturnCategoryView> {
+  if (!c.label) throw labelRequired()
   try {
-    return (await getReturnCategory(db, await createReturnCategory(db, c)))!
+    const id = await db.transaction(async (trx) => {
+      const newId = await createReturnCategory(trx, c)
+      await writeAudit(trx, { userId: by, action: 'return-category.add', entity: 'return_category', entityId: newId, subject: `complaint category "${c.label}"`, detail: { label: c.label } })
+      return newId
+    })
+    return (await getReturnCategory(db, id))!
   } catch (err) {
     if (isUniqueViolation(err)) throw new ReturnError(409, 'category_exists', `A category "${c.label}" exists already`)
     throw err
   }
 }
 
-/** @throws ReturnError 404 `unknown_category`, 409 `category_exists`. */
-export async function editReturnCategory(db: Knex, id: number, change: { label?: string; active?: boolean; sortOrder?: number }): Promise<ReturnCategoryView> {
+/** @throws ReturnError 400 `label_required`, 404 `unknown_category`, 409 `category_exists`. */
+export async function editReturnCategory(db: Knex, id: number, change: { label?: string; active?: boolean; sortOrder?: number }, by: number | null = null): Promise<ReturnCategoryView> {
+  if (change.label === '') throw labelRequired()
   try {
-    if (!(await updateReturnCategory(db, id, change))) throw new ReturnError(404, 'unknown_category', `No complaint category ${id}`)
+    await db.transaction(async (trx) => {
+      const before = await getReturnCategory(trx, id)
+      if (!before || !(await updateReturnCategory(trx, id, change))) throw new ReturnError(404, 'unknown_category', `No complaint category ${id}`)
+      const detail: Record<string, unknown> = {}
+      if (change.label !== undefined && change.label !== before.label) detail.renamedFrom = before.label
+      if (change.active !== undefined) detail.switched = change.active ? 'on' : 'off'
+      if (change.sortOrder !== undefined) detail.position = change.sortOrder
+      const label = change.label ?? before.label
+      await writeAudit(trx, { userId: by, action: 'return-category.change', entity: 'return_category', entityId: id, subject: `complaint category "${label}"`, detail: { label, ...detail } })
+    })
   } catch (err) {
     if (isUniqueViolation(err)) throw new ReturnError(409, 'category_exists', `A category "${change.label}" exists already`)
     throw err

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { normalizeSerialQuery } from './units'
 import type { CompareFigure, CompareFigures, CompareReading, DeltaRow, Disposition } from '../types/returns'
 
 /**
@@ -20,16 +21,40 @@ export const RETURN_DISPOSITION_LABELS: Record<Disposition, string> = {
 export const RETURN_ATTACHMENT_MAX_MB = 10
 export const RETURN_ATTACHMENT_TYPES = ['image/png', 'image/jpeg', 'application/pdf'] as const
 
+/** The earliest date a return may have been received: older dates are typing mistakes. */
+export const RETURN_EARLIEST_RECEIVED_ON = '2000-01-01'
+
+/**
+ * The latest date a return may have been received, as YYYY-MM-DD: one day after `now`'s UTC date,
+ * because a desk east of UTC is already on the next day while the server's UTC clock is not.
+ */
+export function latestReceivedOn(now: Date = new Date()): string {
+  return new Date(Date.UTC(now.getUTCFullYear(), now.getUTCMonth(), now.getUTCDate() + 1)).toISOString().slice(0, 10)
+}
+
+/** Why a date received (YYYY-MM-DD) cannot be right, in the future or before 2000, or null when it may be. */
+export function receivedOnProblem(date: string, now: Date = new Date()): { code: 'received_in_future' | 'received_too_early'; message: string } | null {
+  if (date < RETURN_EARLIEST_RECEIVED_ON) return { code: 'received_too_early', message: `The date received ${date} is before ${RETURN_EARLIEST_RECEIVED_ON.slice(0, 4)}: check the year` }
+  if (date > latestReceivedOn(now)) return { code: 'received_in_future', message: `The date received ${date} is in the future: a return is registered once it has arrived` }
+  return null
+}
+
 const isoDate = z.iso.date({ error: 'receivedOn must be a date (YYYY-MM-DD)' })
 
 /** POST /api/returns. */
 export const returnCreateSchema = z.object({
+  // Read like the search box reads it (spaces, a scanner's control and start/stop characters cut off).
   serial: z
     .string({ error: 'serial is required' })
-    .trim()
-    .min(3, 'serial must have at least 3 characters')
-    .max(64, 'serial may have at most 64 characters')
-    .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'serial may hold letters, digits and - _ . only'),
+    .max(200, 'serial is too long')
+    .transform((raw, ctx) => {
+      const s = normalizeSerialQuery(raw)
+      if (s === null) ctx.addIssue({ code: 'custom', message: 'serial may hold letters, digits and - _ . only' })
+      else if (s.length < 3) ctx.addIssue({ code: 'custom', message: 'serial must have at least 3 characters' })
+      else if (s.length > 64) ctx.addIssue({ code: 'custom', message: 'serial may have at most 64 characters' })
+      else return s
+      return z.NEVER
+    }),
   receivedOn: isoDate,
   customerRef: z.string().trim().max(120).default(''),
   categoryId: z.coerce.number({ error: 'choose a complaint category' }).int().positive('choose a complaint category'),
@@ -77,12 +102,13 @@ export const returnRetestFieldsSchema = z.object({
 })
 
 export const returnCategoryCreateSchema = z.object({
-  label: z.string({ error: 'label is required' }).trim().min(1, 'label is required').max(80),
+  // A blank label is refused by the service with its own code (400 `label_required`).
+  label: z.string().trim().max(80, 'A category name has at most 80 characters').default(''),
   sortOrder: z.coerce.number().int().min(0).max(100000).optional(),
 })
 export const returnCategoryPatchSchema = z
   .object({
-    label: z.string().trim().min(1).max(80).optional(),
+    label: z.string().trim().max(80, 'A category name has at most 80 characters').optional(),
     active: z.boolean().optional(),
     sortOrder: z.coerce.number().int().min(0).max(100000).optional(),
   })

@@ -138,6 +138,20 @@ describe('complaint categories', () => {
     const refused = await call('support', '/api/returns', { json: { serial: serials.C, receivedOn: '2026-11-21', categoryId: cat.id } })
     expect([refused.status, await codeOf(refused)]).toEqual([422, 'unknown_category'])
     await expect(testDb()('return_categories').where({ id: cat.id }).delete()).rejects.toThrow(/foreign key/)
+    // The admins' changes are in the audit log under the category's name.
+    const audit = await testDb()('audit_log').where({ entity: 'return_category', entity_id: String(cat.id) }).orderBy('id')
+    expect(audit.map((x) => [x.action, x.subject, x.detail])).toEqual([
+      ['return-category.add', `complaint category "${label}"`, { label }],
+      ['return-category.change', `complaint category "${label}"`, { label, switched: 'off' }],
+    ])
+  })
+
+  it('refuses a blank name in words of its own (400 label_required)', async () => {
+    for (const body of [{ label: '   ' }, {}]) {
+      const res = await call('admin', '/api/return-categories', { json: body })
+      const answer = (await res.json()) as { message: string; data: { code: string } }
+      expect([res.status, answer.data.code, answer.message]).toEqual([400, 'label_required', 'Give the complaint category a name'])
+    }
   })
 })
 
@@ -157,6 +171,39 @@ describe('register a return', () => {
     expect([unknown.status, await codeOf(unknown)]).toEqual([422, 'unknown_serial'])
     const noDate = await call('support', '/api/returns', { json: { ...body(), receivedOn: 'yesterday' } })
     expect([noDate.status, await codeOf(noDate)]).toEqual([400, 'invalid_input'])
+  })
+
+  it('refuses a date received in the future (beyond tomorrow, UTC) or before 2000, and stores nothing', async () => {
+    const before = await testDb()('returns').count<{ n: string }[]>({ n: '*' }).first()
+    const future = await call('support', '/api/returns', { json: { ...body(), receivedOn: '2999-06-01' } })
+    expect([future.status, await codeOf(future)]).toEqual([400, 'received_in_future'])
+    const dayAfterTomorrow = new Date(Date.now() + 2 * 86_400_000).toISOString().slice(0, 10)
+    const soon = await call('support', '/api/returns', { json: { ...body(), receivedOn: dayAfterTomorrow } })
+    expect([soon.status, await codeOf(soon)]).toEqual([400, 'received_in_future'])
+    const old = await call('support', '/api/returns', { json: { ...body(), receivedOn: '1999-12-31' } })
+    expect([old.status, await codeOf(old)]).toEqual([400, 'received_too_early'])
+    const after = await testDb()('returns').count<{ n: string }[]>({ n: '*' }).first()
+    expect(after!.n).toBe(before!.n)
+  })
+
+  it('reads the serial as the search box does: lower case and surrounding spaces are fine', async () => {
+    // A unit of a product of its own, so that the lot's and the product's return counts below stay as they are.
+    const serial = unique('RD').toUpperCase()
+    await testDb()('units').insert({ serial, product_id: (await makeProduct(unique('RPD'))).id })
+    const search = await json<{ match: string; units: { serial: string }[] }>(await call('support', `/api/units?q=${encodeURIComponent(` ${serial.toLowerCase()} `)}`))
+    expect([search.match, search.units.map((u) => u.serial)]).toEqual(['exact', [serial]])
+    const today = new Date().toISOString().slice(0, 10)
+    const res = await call('support', '/api/returns', { json: { ...body(), serial: `${serial.toLowerCase()} `, receivedOn: today } })
+    expect(res.status).toBe(201)
+    const r = await json<ReturnView>(res)
+    expect([r.serial, r.receivedOn]).toEqual([serial, today])
+    // Registering is in the audit log, found by the unit's serial, with plain fields.
+    const audit = await testDb()('audit_log').where({ action: 'return.register', entity_id: String(r.id) })
+    expect(audit).toHaveLength(1)
+    expect(audit[0].subject).toContain(serial)
+    expect(audit[0].detail).toEqual({ serial, received: today, category: 'Distorted sound / buzzing', customerReference: 'RMA 7731 <b>' })
+    const page = await json<{ entries: { action: string }[] }>(await call('admin', `/api/audit?subject=${encodeURIComponent(serial)}`))
+    expect(page.entries.map((e) => e.action)).toContain('return.register')
   })
 
   it('registers it for support (201), open, with the unit, product and lot', async () => {
@@ -347,7 +394,15 @@ describe('re-test through the pipeline, compare, close', () => {
     expect(r.closedAt).not.toBeNull()
     const audit = await testDb()('audit_log').where({ entity: 'return', entity_id: String(returnId), action: 'return.close' })
     expect(audit).toHaveLength(1)
-    expect(audit[0].detail).toMatchObject({ serial: serials.A, disposition: 'confirmed_defect', causeClass: 'fsHz:low' })
+    expect(audit[0].subject).toContain(serials.A)
+    expect(audit[0].detail).toMatchObject({ serial: serials.A, disposition: 'Confirmed defect', causeClass: 'fsHz:low' })
+    // Every change to the return is in the log under the unit's serial, in the order it happened.
+    const all = await testDb()('audit_log').where({ entity: 'return', entity_id: String(returnId) }).orderBy('id')
+    expect(all.map((a) => a.action)).toEqual(['return.register', 'return.edit', 'return.attach', 'return.retest', 'return.close'])
+    expect(all.every((a) => String(a.subject).includes(serials.A))).toBe(true)
+    expect(all.find((a) => a.action === 'return.attach')!.detail).toMatchObject({ serial: serials.A, file: '../../../escape.png', type: 'image/png' })
+    expect(all.find((a) => a.action === 'return.retest')!.detail).toMatchObject({ serial: serials.A, recording: retest.id, file: 'return.wav' })
+    for (const a of all) expect(Object.values(a.detail as Record<string, unknown>).some((v) => Array.isArray(v) || (v !== null && typeof v === 'object'))).toBe(false)
     const closed = await json<ReturnSummary[]>(await call('support', `/api/returns?status=closed&serial=${serials.A}`))
     expect(closed.map((x) => x.id)).toEqual([returnId])
   })

@@ -5,11 +5,11 @@ import type { ReturnCategoryView } from '../../../shared/types/returns'
 
 /** Rename, reorder, or deactivate (a category is never deleted: returns keep theirs). */
 export default defineEventHandler(async (event) => {
-  await requireRole(event, 'admin')
+  const user = await requireRole(event, 'admin')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const change = await readValidatedBody(event, zodValidator(returnCategoryPatchSchema))
   try {
-    return (await editReturnCategory(useDb(), id, change)) satisfies ReturnCategoryView
+    return (await editReturnCategory(useDb(), id, change, user.id)) satisfies ReturnCategoryView
   } catch (err) {
     throw toHttpError(err)
   }

@@ -3,10 +3,10 @@ import { returnCategoryCreateSchema } from '../../../shared/utils/returns'
 import type { ReturnCategoryView } from '../../../shared/types/returns'
 
 export default defineEventHandler(async (event) => {
-  await requireRole(event, 'admin')
+  const user = await requireRole(event, 'admin')
   const input = await readValidatedBody(event, zodValidator(returnCategoryCreateSchema))
   try {
-    const created = await addReturnCategory(useDb(), input)
+    const created = await addReturnCategory(useDb(), input, user.id)
     setResponseStatus(event, 201)
     return created satisfies ReturnCategoryView
   } catch (err) {

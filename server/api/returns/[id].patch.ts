@@ -5,11 +5,11 @@ import type { ReturnView } from '../../../shared/types/returns'
 
 /** Open returns only (409 `return_closed` once closed; the database refuses it too). */
 export default defineEventHandler(async (event) => {
-  await requireRole(event, 'support', 'quality')
+  const user = await requireRole(event, 'support', 'quality')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const change = await readValidatedBody(event, zodValidator(returnPatchSchema))
   try {
-    return (await editReturn(useDb(), id, change)) satisfies ReturnView
+    return (await editReturn(useDb(), id, change, user.id)) satisfies ReturnView
   } catch (err) {
     throw toHttpError(err)
   }
