@@ -15,6 +15,8 @@ export interface UserRow {
   updated_at: Date
   deactivated_at: Date | null
   deactivated_by: string | null
+  /** Sessions signed in before this are refused (set on deactivation). */
+  sessions_valid_from: Date | null
 }
 
 /** Public view of a user (never the hash). */
@@ -98,11 +100,15 @@ export async function setRole(db: Knex, id: number, role: Role): Promise<void> {
   await db('users').where({ id }).update({ role, updated_at: db.fn.now() })
 }
 
-/** (De)activates an account; deactivation remembers who and when, reactivation clears it. */
+/**
+ * (De)activates an account; deactivation remembers who and when, reactivation clears it.
+ * Deactivation also ends every session signed in until now (`sessions_valid_from`): a later
+ * reactivation does not revive them.
+ */
 export async function setActive(db: Knex, id: number, active: boolean, by: number): Promise<void> {
   await db('users')
     .where({ id })
-    .update(active ? { active, deactivated_at: null, deactivated_by: null, updated_at: db.fn.now() } : { active, deactivated_at: db.fn.now(), deactivated_by: by, updated_at: db.fn.now() })
+    .update(active ? { active, deactivated_at: null, deactivated_by: null, updated_at: db.fn.now() } : { active, deactivated_at: db.fn.now(), deactivated_by: by, sessions_valid_from: db.fn.now(), updated_at: db.fn.now() })
 }
 
 export async function recordLogin(db: Knex, id: number): Promise<void> {

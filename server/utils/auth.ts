@@ -7,17 +7,25 @@ import { roleAllows, type Role } from '../../shared/utils/roles'
 import { useDb } from './db'
 import { httpError } from './errors'
 
+/** Whether a session signed in at `loggedInAt` is older than the person's cut-off (set on deactivation). */
+export function sessionCutOff(loggedInAt: unknown, validFrom: Date | null): boolean {
+  if (!validFrom) return false
+  const at = typeof loggedInAt === 'string' ? Date.parse(loggedInAt) : Number.NaN
+  return !Number.isFinite(at) || at < validFrom.getTime()
+}
+
 /**
  * The guard every protected route calls first. Admin passes every role check.
  * The account is read again on each call, so a deactivated person or a changed role takes
- * effect at once, not when the cookie expires.
+ * effect at once, not when the cookie expires; a session signed in before the person was last
+ * deactivated stays refused after a reactivation.
  * @throws 401 `unauthenticated` without a valid session; 403 `forbidden` for another role.
  */
 export async function requireRole(event: H3Event, ...roles: Role[]): Promise<User> {
   const session = await getUserSession(event)
   if (!session.user) throw httpError(401, 'unauthenticated', 'Sign in first')
   const row = await getUserById(useDb(), session.user.id)
-  if (!row || !row.active) {
+  if (!row || !row.active || sessionCutOff(session.loggedInAt, row.sessions_valid_from)) {
     await endSession(event)
     throw httpError(401, 'unauthenticated', 'Sign in first')
   }

@@ -147,6 +147,7 @@ describe('finding a unit from any page', () => {
     expect(await page.getByTestId('unit-certificate').count()).toBe(0)
     await page.close()
   })
+
   it('a full page load of /units?q=<prefix> shows the list to a signed-in person', async () => {
     const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
     await signInAs(page, baseUrl, 'support', '/units')
