@@ -17,12 +17,9 @@ export function lotNum(v: number | null | undefined, digits?: number): string {
   return v.toFixed(a >= 100 ? 1 : a >= 10 ? 2 : 3)
 }
 
-/** Date and local time of an ISO timestamp, e.g. 2026-03-04 14:03, or a dash. */
+/** Date and local time of an ISO timestamp, e.g. 2026-03-04 14:03, or a dash (the shared formatWhen). */
 export function lotWhen(iso: string | null | undefined): string {
-  if (!iso) return '–'
-  const d = new Date(iso)
-  const pad = (n: number) => String(n).padStart(2, '0')
-  return `${d.getFullYear()}-${pad(d.getMonth() + 1)}-${pad(d.getDate())} ${pad(d.getHours())}:${pad(d.getMinutes())}`
+  return formatWhen(iso)
 }
 
 /** Capability below this is flagged: 1.33 is common practice for an existing process, not a standard. */

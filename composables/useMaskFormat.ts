@@ -7,12 +7,9 @@ export const MASK_STATUS_LOOK: Record<MaskSummary['status'], { word: string; ton
   retired: { word: 'Retired', tone: 'bg-paper-sunk text-ink-soft', hint: 'No longer judges anything; results keep the version that judged them.' },
 }
 
-/** Date and local time of an ISO timestamp, e.g. 2026-03-04 14:03, or a dash. */
+/** Date and local time of an ISO timestamp, e.g. 2026-03-04 14:03, or a dash (the shared formatWhen). */
 export function maskWhen(iso: string | null): string {
-  if (!iso) return '–'
-  const d = new Date(iso)
-  const pad = (n: number) => String(n).padStart(2, '0')
-  return `${d.getFullYear()}-${pad(d.getMonth() + 1)}-${pad(d.getDate())} ${pad(d.getHours())}:${pad(d.getMinutes())}`
+  return formatWhen(iso)
 }
 
 /** A percentage with one decimal, or a dash when there was nothing to count. */

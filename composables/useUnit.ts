@@ -21,11 +21,9 @@ export function defaultTestId(tests: UnitTest[], latestProductionId: number | nu
   return latestProductionId ?? tests[0]?.id ?? null
 }
 
-/** Local date and time of an ISO timestamp, e.g. 2026-12-02 14:03. */
+/** Local date and time of an ISO timestamp, e.g. 2026-12-02 14:03 (the shared formatWhen). */
 export function unitWhen(iso: string): string {
-  const d = new Date(iso)
-  const pad = (n: number) => String(n).padStart(2, '0')
-  return `${d.getFullYear()}-${pad(d.getMonth() + 1)}-${pad(d.getDate())} ${pad(d.getHours())}:${pad(d.getMinutes())}`
+  return formatWhen(iso)
 }
 
 /** The certificate download of a unit (a plain link: the browser keeps the session cookie). */
