@@ -29,6 +29,27 @@ export function httpError(statusCode: number, code: string, message: string, ext
   return createError({ statusCode, statusMessage: STATUS_TEXT[statusCode], message, data: { code, ...extra } })
 }
 
+/** zod's own wording "Invalid input: expected number, received NaN" (used where a schema set none). */
+const ZOD_TYPE = /^Invalid input: expected (\w+), received (\w+)/
+const KIND: Record<string, string> = { number: 'a number', string: 'text', boolean: 'yes or no', array: 'a list', object: 'a group of fields', date: 'a date' }
+
+/**
+ * One issue in words for people: never a raw path such as `to.0`. Our schemas' own messages read
+ * on their own (they name the field or the value); zod's generic ones get the field's name first,
+ * a list item by its place ("to, item 1"), and a wrong type in plain words.
+ */
+export function issueText(path: string, message: string): string {
+  const parts = path ? path.split('.') : []
+  const name = parts.filter((p) => !/^\d+$/.test(p)).join(' ')
+  const index = parts.find((p) => /^\d+$/.test(p))
+  const generic = /^(Invalid|Too (small|big)|Unrecognized)/.test(message)
+  if (!name || !generic) return message
+  const field = index === undefined ? name : `${name}, item ${Number(index) + 1}`
+  const type = ZOD_TYPE.exec(message)
+  if (type) return type[2] === 'undefined' ? `${field} is required` : `${field} must be ${KIND[type[1]!] ?? type[1]}`
+  return `${field}: ${message}`
+}
+
 /**
  * Thrown by zodValidator. h3's readValidatedBody turns whatever a validator throws into a 400 whose
  * `data` is that error, so the enumerable fields below become data.code and data.issues.
@@ -38,7 +59,7 @@ export class InputValidationError extends Error {
   readonly issues: { path: string; message: string }[]
   constructor(err: ZodError) {
     const issues = err.issues.map((i) => ({ path: i.path.join('.'), message: i.message }))
-    super(issues.map((i) => (i.path ? `${i.path}: ${i.message}` : i.message)).join('; '))
+    super(issues.map((i) => issueText(i.path, i.message)).join('; '))
     this.issues = issues
   }
 }
@@ -84,6 +105,6 @@ export function parseInput<T>(schema: { parse: (v: unknown) => T }, value: unkno
   } catch (err) {
     if (!(err instanceof InputValidationError)) throw err
     const issues = err.issues.map((i) => ({ ...i, path: [prefix, i.path].filter(Boolean).join('.') }))
-    throw httpError(400, err.code, issues.map((i) => (i.path ? `${i.path}: ${i.message}` : i.message)).join('; '), { issues })
+    throw httpError(400, err.code, issues.map((i) => issueText(i.path, i.message)).join('; '), { issues })
   }
 }

@@ -15,13 +15,33 @@ export const codeSchema = z
   .max(40)
   .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'codes may hold letters, digits and - _ . only')
 
+const AMBIENT_RANGE = 'Room temperature (ambientC) must be between -20 and 60 °C'
+
+/**
+ * Room temperature in °C as a form or a station sends it: a decimal point or a decimal comma
+ * ("22.5", "22,5"); empty means not given. Anything else is refused in words, not as NaN.
+ */
+export const ambientCSchema = z.preprocess(
+  (v) => {
+    if (typeof v !== 'string') return v
+    const s = v.trim()
+    if (s === '') return undefined
+    return /^[+-]?\d+,\d+$/.test(s) ? s.replace(',', '.') : s
+  },
+  z.coerce
+    .number({ error: 'Room temperature (ambientC) must be a number of °C, such as 22.5' })
+    .min(-20, AMBIENT_RANGE)
+    .max(60, AMBIENT_RANGE)
+    .optional(),
+)
+
 /** The text fields of POST /api/recordings (multipart); numbers arrive as strings. */
 export const uploadFieldsSchema = z.object({
   serial: serialSchema,
   product: codeSchema.optional(),
   lot: codeSchema.optional(),
   station: z.coerce.number().int().positive().optional(),
-  ambientC: z.coerce.number().min(-20, 'ambientC must be between -20 and 60 °C').max(60, 'ambientC must be between -20 and 60 °C').optional(),
+  ambientC: ambientCSchema,
   note: z.string().trim().max(500).optional(),
 })
 export type UploadFields = z.infer<typeof uploadFieldsSchema>

@@ -54,7 +54,12 @@ export const unitSearchQuerySchema = z.object({
     }),
 })
 
-const email = z.string().trim().toLowerCase().max(254).pipe(z.email('Enter a valid e-mail address'))
+const email = z
+  .string()
+  .trim()
+  .toLowerCase()
+  .max(254, 'An e-mail address has at most 254 characters')
+  .pipe(z.email({ error: (iss) => `Not an e-mail address: ${String(iss.input)}` }))
 
 /** POST /api/units/:serial/certificate/send and its form: one address or a list. */
 export const sendCertificateSchema = z.object({
