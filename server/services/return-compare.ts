@@ -27,7 +27,7 @@ export function compareFiguresOf(v: RecordingView): CompareFigures {
   }
 }
 
-const refOf = (v: RecordingView): CompareTestRef => ({ recordingId: v.id, uploadedAt: v.uploadedAt, verdict: v.verdict, maskVersion: v.maskVersion })
+const refOf = (v: RecordingView): CompareTestRef => ({ recordingId: v.id, uploadedAt: v.uploadedAt, verdict: v.verdict, maskVersion: v.maskVersion, stationId: v.stationId })
 
 /** Both curves on the shorter of the two grids (the grid is the same from 10 Hz; its top follows each sweep). */
 function overlay(f: RecordingView, r: RecordingView): ReturnComparison['curves'] {

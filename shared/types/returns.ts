@@ -83,9 +83,12 @@ export interface DeltaRow {
   returned: number | null
   /** returned − factory, in the figure's unit. */
   change: number | null
-  /** Change in %: of the value; for dB figures, of the sound pressure it stands for (10^(Δ/20) − 1). */
+  /** Change in % of the value; null for dB figures and THD (their change reads in dB and percentage points). */
   changePct: number | null
-  pctBasis: 'value' | 'pressure'
+  /** How the change reads: in % of the value (Fs, Re, the Q's), in dB (sensitivity, rub and buzz), in percentage points (THD). */
+  changeKind: 'pct' | 'db' | 'points'
+  /** Decimals the figure is shown with (and its change in dB or points). */
+  decimals: number
   /** Beyond the figure's threshold (shared/utils/returns.ts, common practice). */
   significant: boolean
 }
@@ -102,6 +105,8 @@ export interface CompareTestRef {
   uploadedAt: string
   verdict: 'pass' | 'fail' | null
   maskVersion: number | null
+  /** The station that ran the test (the re-test form starts on the factory test's one). */
+  stationId: number | null
 }
 
 export interface ReturnComparison {

@@ -16,7 +16,7 @@ export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/stations', label: 'Stations', roles: ['engineer'], hint: 'Test positions and their calibration profiles' },
   { to: '/lots', label: 'Lots', roles: ['quality', 'engineer'], hint: 'Yield, failure Pareto and drift per lot' },
   { to: '/units', label: 'Units', roles: ['support', 'quality', 'engineer', 'technician'], hint: 'Find any unit by serial' },
-  { to: '/returns', label: 'Returns', roles: ['support', 'quality'], hint: 'Units sent back from the field' },
+  { to: '/returns', label: 'Returns', roles: ['support', 'quality', 'engineer'], hint: 'Units sent back from the field' },
   { to: '/people', label: 'People', roles: ['admin'], hint: 'Accounts, invitations and roles' },
   { to: '/audit', label: 'Audit log', roles: ['admin'], hint: 'Who did what and when: sign-ins, roles, tokens, masks, exports' },
 ]

@@ -138,16 +138,47 @@ export const RETURN_RUB_BUZZ_RISE_DB = 10
 
 export const RETURN_READINGS_NOTE = 'Readings are trade practice (common practice of repair and quality desks), not a diagnosis: confirm by inspecting the unit.'
 
-const FIGURES: { figure: CompareFigure; label: string; unit: string; db: boolean }[] = [
-  { figure: 'fsHz', label: 'Fs', unit: 'Hz', db: false },
-  { figure: 're20Ohm', label: 'Re at 20 °C', unit: 'Ω', db: false },
-  { figure: 'qts', label: 'Qts', unit: '', db: false },
-  { figure: 'qms', label: 'Qms', unit: '', db: false },
-  { figure: 'qes', label: 'Qes', unit: '', db: false },
-  { figure: 'sensitivityDb', label: 'Sensitivity', unit: 'dB SPL', db: true },
-  { figure: 'thdMaxPct', label: 'THD max', unit: '%', db: false },
-  { figure: 'rubBuzzDb', label: 'Rub and buzz', unit: 'dB', db: true },
+const FIGURES: { figure: CompareFigure; label: string; unit: string; kind: DeltaRow['changeKind']; decimals: number }[] = [
+  { figure: 'fsHz', label: 'Fs', unit: 'Hz', kind: 'pct', decimals: 1 },
+  { figure: 're20Ohm', label: 'Re at 20 °C', unit: 'Ω', kind: 'pct', decimals: 2 },
+  { figure: 'qts', label: 'Qts', unit: '', kind: 'pct', decimals: 3 },
+  { figure: 'qms', label: 'Qms', unit: '', kind: 'pct', decimals: 2 },
+  { figure: 'qes', label: 'Qes', unit: '', kind: 'pct', decimals: 3 },
+  { figure: 'sensitivityDb', label: 'Sensitivity', unit: 'dB SPL', kind: 'db', decimals: 1 },
+  { figure: 'thdMaxPct', label: 'THD max', unit: '%', kind: 'points', decimals: 2 },
+  { figure: 'rubBuzzDb', label: 'Rub and buzz', unit: 'dB', kind: 'db', decimals: 1 },
 ]
+
+/** Decimals of a change in %. */
+const PCT_DECIMALS = 1
+
+/**
+ * A number rounded to `decimals` and written with its sign ("+1.2", "-0.35"); what rounds to zero
+ * is "0.0" without a sign (never "-0.0"). A dash when missing.
+ */
+export function signedFigure(v: number | null, decimals: number): string {
+  if (!finite(v)) return '–'
+  const text = Math.abs(v).toFixed(decimals)
+  if (Number(text) === 0) return text
+  return `${v > 0 ? '+' : '-'}${text}`
+}
+
+/** A figure's value as the delta table shows it, with the figure's decimals. */
+export function deltaValueText(row: DeltaRow, v: number | null): string {
+  return finite(v) ? (Number(v.toFixed(row.decimals)) === 0 ? (0).toFixed(row.decimals) : v.toFixed(row.decimals)) : '–'
+}
+
+/** The change as it reads for the figure: "-20.0 %" (Fs, Re, Q's), "+1.2 dB" (dB figures), "+0.80 pp" (THD, percentage points). */
+export function deltaChangeText(row: DeltaRow): string {
+  switch (row.changeKind) {
+    case 'pct':
+      return row.changePct === null ? '–' : `${signedFigure(row.changePct, PCT_DECIMALS)} %`
+    case 'db':
+      return row.change === null ? '–' : `${signedFigure(row.change, row.decimals)} dB`
+    case 'points':
+      return row.change === null ? '–' : `${signedFigure(row.change, row.decimals)} pp`
+  }
+}
 
 const finite = (v: number | null | undefined): v is number => typeof v === 'number' && Number.isFinite(v)
 
@@ -178,15 +209,29 @@ function isSignificant(figure: CompareFigure, f: number | null, r: number | null
   }
 }
 
-/** The delta table: each figure's factory and return values, change and change in %. */
+/**
+ * The delta table: each figure's factory and return values, change, and change in % of the value
+ * for the figures where a % means something (not for dB figures, whose change is already a ratio,
+ * nor THD, itself a %: those read in dB and in percentage points).
+ */
 export function returnDeltaRows(factory: CompareFigures, returned: CompareFigures): DeltaRow[] {
-  return FIGURES.map(({ figure, label, unit, db }) => {
+  return FIGURES.map(({ figure, label, unit, kind, decimals }) => {
     const f = factory[figure]
     const r = returned[figure]
     const change = finite(f) && finite(r) ? r - f : null
-    // A dB figure's % is of the sound pressure it stands for: 10^(Δ/20) − 1.
-    const changePct = db ? (change === null ? null : (Math.pow(10, change / 20) - 1) * 100) : pctOf(f, r)
-    return { figure, label, unit, factory: finite(f) ? f : null, returned: finite(r) ? r : null, change, changePct, pctBasis: db ? 'pressure' : 'value', significant: isSignificant(figure, f, r, db ? pctOf(f, r) : changePct) }
+    const pct = pctOf(f, r)
+    return {
+      figure,
+      label,
+      unit,
+      factory: finite(f) ? f : null,
+      returned: finite(r) ? r : null,
+      change,
+      changePct: kind === 'pct' ? pct : null,
+      changeKind: kind,
+      decimals,
+      significant: isSignificant(figure, f, r, pct),
+    }
   })
 }
 

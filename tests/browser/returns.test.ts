@@ -20,6 +20,8 @@ const browser = useBrowser()
 const serial = `${unique('RBR')}-0001`
 let stationId: number
 let worker: RunningWorker
+/** The return support registers below, which the engineer then reads. */
+let returnPath = ''
 
 beforeAll(async () => {
   worker = startWorker()
@@ -68,11 +70,22 @@ describe('a return from the search box to its disposition', () => {
     await hydrated(page)
     const form = page.getByTestId('return-register')
     expect(await form.locator('input[name=return-serial]').inputValue()).toBe(serial)
+    // A refusal stays only until the fields change.
+    await form.locator('input[name=return-serial]').fill(unique('NOPE'))
+    await form.locator('select[name=return-category]').selectOption({ label: 'Rattling' })
+    await form.getByRole('button', { name: 'Register return' }).click()
+    const refused = page.getByTestId('return-register-error')
+    await refused.waitFor()
+    expect(await refused.textContent()).toContain('never been tested here')
+    // Typed as a person might: lower case with a trailing space; the search box would find it too.
+    await form.locator('input[name=return-serial]').fill(`${serial.toLowerCase()} `)
+    expect(await refused.count()).toBe(0)
     await form.locator('input[name=return-customer-ref]').fill('RMA 5521')
     await form.locator('select[name=return-category]').selectOption({ label: 'Rattling' })
     await form.locator('textarea[name=return-complaint]').fill('Rattles on bass notes since the customer moved the cabinet.')
     await form.getByRole('button', { name: 'Register return' }).click()
     await page.waitForURL((u) => /^\/returns\/\d+$/.test(u.pathname))
+    returnPath = new URL(page.url()).pathname
     await hydrated(page)
     const details = page.getByTestId('return-details')
     await details.waitFor()
@@ -83,11 +96,19 @@ describe('a return from the search box to its disposition', () => {
     // 3. The re-test: a tired suspension (Fs −13 %, Qms −20 %), through the pipeline; its state shows until done.
     const retest = page.getByTestId('return-retest')
     const tired = { ...DEMO_DRIVER, fsHz: DEMO_DRIVER.fsHz * 0.87, qms: DEMO_DRIVER.qms * 0.8 }
-    await retest.locator('input[name=return-retest-file]').setInputFiles({ name: 'return.wav', mimeType: 'audio/wav', buffer: generateRecording({ seed: 1301, driver: tired }) })
-    await retest.locator('select[name=return-retest-station]').selectOption(String(stationId))
+    const retestFile = { name: 'return.wav', mimeType: 'audio/wav', buffer: generateRecording({ seed: 1301, driver: tired }) }
+    // The station starts on the factory test's one (still active): a sweep needs it.
+    expect(await retest.locator('select[name=return-retest-station]').inputValue()).toBe(String(stationId))
+    await retest.locator('input[name=return-retest-file]').setInputFiles(retestFile)
     await retest.locator('input[name=return-retest-ambient]').fill('22')
     await retest.getByRole('button', { name: 'Upload re-test' }).click()
     await retest.getByTestId('return-test-state-pass').waitFor({ timeout: 30_000 })
+    // The same file again: the server answers 200 duplicate, and the page says so.
+    await retest.locator('input[name=return-retest-file]').setInputFiles(retestFile)
+    await retest.getByRole('button', { name: 'Upload re-test' }).click()
+    const dup = retest.getByTestId('return-retest-duplicate')
+    await dup.waitFor()
+    expect(await dup.textContent()).toMatch(/already uploaded for this return \(recording #\d+\)/)
 
     // 4. The comparison: delta table with Fs and Qms beyond their usual spread, and the reading (trade practice).
     const table = page.getByTestId('return-delta-table')
@@ -96,6 +117,15 @@ describe('a return from the search box to its disposition', () => {
     const fsRow = table.getByTestId('delta-fsHz')
     expect(await fsRow.textContent()).toMatch(/-1\d\.\d %/)
     expect(await fsRow.textContent()).toContain('beyond usual spread')
+    // dB figures change in dB, THD in percentage points; no negative zero anywhere.
+    const rubBuzz = await table.getByTestId('delta-rubBuzzDb').textContent()
+    expect(rubBuzz).not.toContain('%')
+    expect(rubBuzz).toMatch(/(\d dB|–)(▲|$)/)
+    expect(await table.getByTestId('delta-sensitivityDb').textContent()).not.toContain('%')
+    expect(await table.getByTestId('delta-thdMaxPct').textContent()).toMatch(/pp|–/)
+    expect(await table.textContent()).not.toMatch(/-0\.0+(?!\d)/)
+    const caption = await page.getByTestId('return-curves').locator('figcaption').first().textContent()
+    expect(caption).toContain('dashed: factory test, solid: return test')
     const readings = page.getByTestId('return-readings')
     expect(await readings.textContent()).toContain('Fs dropped a lot and Qms fell')
     expect(await page.getByTestId('return-compare').textContent()).toContain('trade practice')
@@ -114,7 +144,50 @@ describe('a return from the search box to its disposition', () => {
     await page.getByTestId('return-closing').waitFor()
     expect(await page.getByTestId('return-status-closed').textContent()).toContain('Damaged in use')
     expect(await page.getByTestId('return-close').count()).toBe(0)
+    // Closed: nothing to add, no re-test form or driving note, and the empty list said in words.
+    expect(await page.getByTestId('return-attachments').textContent()).toContain('No photos or documents were attached')
+    expect(await page.locator('input[name=return-attachment], input[name=return-retest-file]').count()).toBe(0)
+    expect(await page.getByTestId('return-retest').textContent()).not.toContain('Drive the returned unit')
     await shot(page, 'return-closed')
     await page.close()
   }, 120_000)
+
+  it('answers an address that is no return with a clean "No such return" page', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'support', '/returns/abc')
+    await page.getByTestId('return-not-found').waitFor()
+    expect(await page.title()).toContain('No such return')
+    expect(await page.locator('h1').textContent()).toContain('No such return')
+    expect(await page.locator('body').textContent()).not.toMatch(/NaN|Invalid input/)
+    await page.close()
+  })
+})
+
+describe('an engineer reads returns on a phone', () => {
+  it('opens the returns pages read only, and sees the unit\'s returns on its record', async () => {
+    expect(returnPath).toMatch(/^\/returns\/\d+$/)
+    const page = await browser().newPage({ viewport: { width: 390, height: 844 } })
+    await signInAs(page, baseUrl, 'engineer', '/returns')
+    expect(new URL(page.url()).pathname).toBe('/returns')
+    await page.getByTestId('return-read-only').waitFor()
+    expect(await page.getByTestId('return-register').count()).toBe(0)
+    await page.goto(new URL(returnPath, baseUrl).toString())
+    await page.getByTestId('return-details').waitFor()
+    expect(await page.getByTestId('return-read-only').textContent()).toContain('Read only for your role')
+    expect(await page.locator('input[type=file], [data-testid=return-close]').count()).toBe(0)
+    // The delta table fits the phone's width, its flags included.
+    const table = page.getByTestId('return-delta-table')
+    await table.waitFor()
+    const box = await table.boundingBox()
+    expect(box!.x + box!.width).toBeLessThanOrEqual(390)
+    const flag = await table.getByTestId('delta-significant').first().boundingBox()
+    expect(flag!.x + flag!.width).toBeLessThanOrEqual(390)
+    await shot(page, 'phone-return-engineer')
+    await page.goto(new URL(`/units/${serial}`, baseUrl).toString())
+    const unitReturns = page.getByTestId('unit-returns')
+    await unitReturns.waitFor()
+    expect(await unitReturns.getByTestId('return-list').textContent()).toContain(serial)
+    expect(await unitReturns.getByRole('link', { name: 'Register a return' }).count()).toBe(0)
+    await page.close()
+  }, 60_000)
 })

@@ -5,8 +5,11 @@ import {
   RETURN_QMS_DROP_PCT,
   RETURN_RE_SHIFT_PCT,
   RETURN_SENS_DROP_DB,
+  deltaChangeText,
+  deltaValueText,
   returnDeltaRows,
   returnReadings,
+  signedFigure,
   returnSafeFileName,
 } from '../../shared/utils/returns'
 import { sniffAttachmentType } from '../../server/storage/attachments'
@@ -41,11 +44,31 @@ describe('delta table', () => {
     expect(rows.map((r) => r.figure)).toEqual(['fsHz', 're20Ohm', 'qts', 'qms', 'qes', 'sensitivityDb', 'thdMaxPct', 'rubBuzzDb'])
   })
 
-  it('gives a dB figure its % as sound pressure: −6.02 dB is half the pressure (20·log10 0.5)', () => {
-    const sens = returnDeltaRows(FACTORY, ret({ sensitivityDb: 89 - 20 * Math.log10(2) })).find((r) => r.figure === 'sensitivityDb')!
-    expect(sens.pctBasis).toBe('pressure')
-    expect(sens.changePct).toBeCloseTo(-50, 8)
-    expect(sens.significant).toBe(true)
+  it('reads a dB figure\'s change in dB and THD\'s in percentage points, never in % of the value', () => {
+    const rows = returnDeltaRows(FACTORY, ret({ sensitivityDb: 86.5, rubBuzzDb: -38.2, thdMaxPct: 2.0 }))
+    const sens = rows.find((r) => r.figure === 'sensitivityDb')!
+    expect(sens).toMatchObject({ changeKind: 'db', changePct: null, significant: true })
+    expect(deltaChangeText(sens)).toBe('-2.5 dB')
+    const rb = rows.find((r) => r.figure === 'rubBuzzDb')!
+    expect([rb.changeKind, rb.changePct, deltaChangeText(rb)]).toEqual(['db', null, '+23.8 dB'])
+    const thd = rows.find((r) => r.figure === 'thdMaxPct')!
+    expect([thd.changeKind, thd.changePct, deltaChangeText(thd)]).toEqual(['points', null, '+0.80 pp'])
+    expect(rows.filter((r) => r.changeKind === 'pct').map((r) => r.figure)).toEqual(['fsHz', 're20Ohm', 'qts', 'qms', 'qes'])
+  })
+
+  it('rounds each figure to its own decimals and never shows a negative zero', () => {
+    const rows = returnDeltaRows(FACTORY, ret({ re20Ohm: 6.8 - 1e-6, qts: 0.4 + 1e-6, sensitivityDb: 89 - 0.01, thdMaxPct: 1.2 - 0.001 }))
+    const by = (f: string) => rows.find((r) => r.figure === f)!
+    expect(deltaChangeText(by('re20Ohm'))).toBe('0.0 %')
+    expect(deltaChangeText(by('qts'))).toBe('0.0 %')
+    expect(deltaChangeText(by('sensitivityDb'))).toBe('0.0 dB')
+    expect(deltaChangeText(by('thdMaxPct'))).toBe('0.00 pp')
+    expect(deltaValueText(by('re20Ohm'), by('re20Ohm').returned)).toBe('6.80')
+    expect(deltaValueText(by('fsHz'), -0.04)).toBe('0.0')
+    expect(deltaChangeText(returnDeltaRows(FACTORY, ret({ fsHz: null })).find((r) => r.figure === 'fsHz')!)).toBe('–')
+    expect(signedFigure(-0.00049, 3)).toBe('0.000')
+    expect(signedFigure(-0.0005, 3)).toBe('-0.001')
+    expect(signedFigure(8.44, 1)).toBe('+8.4')
   })
 
   it('leaves the change empty when either test lacks the figure', () => {
