@@ -10,6 +10,9 @@ import {
   returnDeltaRows,
   returnReadings,
   signedFigure,
+  latestReceivedOn,
+  receivedOnProblem,
+  returnCreateSchema,
   returnSafeFileName,
 } from '../../shared/utils/returns'
 import { sniffAttachmentType } from '../../server/storage/attachments'
@@ -154,5 +157,32 @@ describe('attachments', () => {
     ['façade.jpg', 'fa_ade.jpg'],
   ])('download name of %s is %s', (name, safe) => {
     expect(returnSafeFileName(name)).toBe(safe)
+  })
+})
+
+describe('register form input', () => {
+  // The server's clock is UTC; a desk east of UTC is already on the next day, so one day ahead is allowed.
+  it('allows a date received up to one day after the UTC date, whatever the hour', () => {
+    expect(latestReceivedOn(new Date('2026-12-31T23:59:00Z'))).toBe('2027-01-01')
+    expect(latestReceivedOn(new Date('2026-03-01T00:00:00Z'))).toBe('2026-03-02')
+    const now = new Date('2026-12-02T05:00:00Z')
+    expect(receivedOnProblem('2026-12-02', now)).toBeNull()
+    expect(receivedOnProblem('2026-12-03', now)).toBeNull()
+    expect(receivedOnProblem('2026-12-04', now)?.code).toBe('received_in_future')
+    expect(receivedOnProblem('2027-06-01', now)?.code).toBe('received_in_future')
+  })
+
+  it('refuses a date received before 2000 as a typing mistake', () => {
+    const now = new Date('2026-12-02T05:00:00Z')
+    expect(receivedOnProblem('2000-01-01', now)).toBeNull()
+    expect(receivedOnProblem('1999-12-31', now)).toMatchObject({ code: 'received_too_early', message: expect.stringContaining('check the year') })
+  })
+
+  it('reads the serial as the search box does: spaces and a scanner\'s characters cut, case kept for the lookup', () => {
+    const base = { receivedOn: '2026-12-01', categoryId: 1 }
+    expect(returnCreateSchema.parse({ ...base, serial: 'qb5w-0234-0003 ' }).serial).toBe('qb5w-0234-0003')
+    expect(returnCreateSchema.parse({ ...base, serial: '*QB5W-0234-0003*\r\n' }).serial).toBe('QB5W-0234-0003')
+    expect(returnCreateSchema.safeParse({ ...base, serial: 'QB 5W' }).success).toBe(false)
+    expect(returnCreateSchema.safeParse({ ...base, serial: ' ab ' }).success).toBe(false)
   })
 })
