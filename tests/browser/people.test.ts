@@ -1,4 +1,7 @@
 import { describe, expect, inject, it } from 'vitest'
+import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
+import type { InvitationCreated } from '../../shared/types/people'
+import { signIn } from '../support/app'
 import { signInAs, useBrowser } from '../support/browser'
 import { unique } from '../support/db'
 
@@ -56,5 +59,35 @@ describe('an admin in the browser', () => {
     await admin.getByRole('button', { name: 'Clear' }).click()
     await expect.poll(async () => Number((await admin.getByTestId('audit-count').textContent())!.split(' ')[0])).toBeGreaterThan(1)
     await admin.close()
+  })
+})
+
+describe('deactivating someone', () => {
+  it('asks once more before it acts; "Keep active" changes nothing', async () => {
+    const cookie = (await signIn(baseUrl, demoEmail('admin'), DEMO_PASSWORD)).cookie
+    const email = `${unique('confirm').toLowerCase()}@example.test`
+    const post = (path: string, body: unknown, withCookie: boolean) =>
+      fetch(new URL(path, baseUrl), { method: 'POST', headers: { 'content-type': 'application/json', ...(withCookie ? { cookie } : {}) }, body: JSON.stringify(body) })
+    const invited = (await (await post('/api/invitations', { email, role: 'support' }, true)).json()) as InvitationCreated
+    const token = new URL(invited.link).pathname.split('/').at(-1)!
+    expect((await post(`/api/invitations/accept/${token}`, { displayName: 'Confirm Me', password: 'a long browser password' }, false)).status).toBe(201)
+    const active = async () => ((await (await fetch(new URL('/api/people', baseUrl), { headers: { cookie } })).json()) as { email: string; active: boolean }[]).find((p) => p.email === email)!.active
+
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'admin', '/people')
+    const row = page.getByTestId(`person-${email}`)
+    await row.getByRole('button', { name: 'Deactivate' }).click()
+    const confirm = row.getByTestId('deactivate-confirm')
+    expect(await confirm.textContent()).toContain('Sign Confirm Me out everywhere')
+    expect(await active()).toBe(true)
+    await confirm.getByRole('button', { name: 'Keep active' }).click()
+    await expect.poll(() => confirm.count()).toBe(0)
+    expect(await active()).toBe(true)
+
+    await row.getByRole('button', { name: 'Deactivate' }).click()
+    await row.getByRole('button', { name: 'Yes, deactivate' }).click()
+    await expect.poll(() => row.textContent()).toContain('Deactivated')
+    expect(await active()).toBe(false)
+    await page.close()
   })
 })
