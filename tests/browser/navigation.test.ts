@@ -111,3 +111,25 @@ describe('an open page follows changes to the account', () => {
     await page.close()
   })
 })
+
+describe('the header', () => {
+  it('holds every admin page and the search box on one row at 1366 px; on a phone the menu scrolls in its own row', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
+    await signInAs(page, baseUrl, 'admin', '/people')
+    const links = page.getByTestId('main-nav').getByRole('link')
+    await expect.poll(() => links.count()).toBe(9)
+    const tops = await links.evaluateAll((as) => as.map((a) => Math.round(a.getBoundingClientRect().top)))
+    expect(new Set(tops).size).toBe(1)
+    const search = await page.getByTestId('unit-search').boundingBox()
+    const nav = await page.getByTestId('main-nav').boundingBox()
+    // Search box beside the menu, not below it; nothing hidden off the menu's edge.
+    expect(Math.abs(search!.y + search!.height / 2 - (nav!.y + nav!.height / 2))).toBeLessThan(10)
+    expect(await page.getByTestId('main-nav').evaluate((n) => n.scrollWidth <= n.clientWidth)).toBe(true)
+
+    await page.setViewportSize({ width: 390, height: 844 })
+    await expect.poll(() => page.evaluate(() => document.documentElement.scrollWidth)).toBeLessThanOrEqual(390)
+    const phoneTops = await links.evaluateAll((as) => as.map((a) => Math.round(a.getBoundingClientRect().top)))
+    expect(new Set(phoneTops).size).toBe(1)
+    await page.close()
+  })
+})

@@ -80,6 +80,10 @@ describe('finding a unit from any page', () => {
     expect(await page.getByTestId('unit-certificate').locator('a[download]').getAttribute('href')).toBe(`/api/units/${serials[0]}/certificate.pdf`)
     // E-mailed from the page: the form says who it went to and empties itself for the next one.
     const send = page.getByTestId('certificate-send')
+    // A mistyped address is named in words (no raw field path such as "to.1").
+    await send.locator('input[name=certificate-to]').fill('buyer@example.test, not-an-address')
+    await send.getByRole('button', { name: 'Send certificate' }).click()
+    await expect.poll(() => page.getByTestId('unit-certificate').getByRole('alert').textContent()).toBe('Not sent: Not an e-mail address: not-an-address')
     await send.locator('input[name=certificate-to]').fill('buyer@example.test')
     await send.getByRole('button', { name: 'Send certificate' }).click()
     await expect.poll(() => page.getByTestId('unit-certificate').getByRole('status').textContent()).toContain('buyer@example.test')
