@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { uploadFieldsSchema } from './bench'
 import { normalizeSerialQuery } from './units'
 import type { CompareFigure, CompareFigures, CompareReading, DeltaRow, Disposition } from '../types/returns'
 
@@ -94,11 +95,8 @@ export const returnListQuerySchema = z.object({
 export const returnAttachmentParamSchema = z.object({ id: z.coerce.number().int().positive(), attachmentId: z.coerce.number().int().positive() })
 
 /** The multipart fields of POST /api/returns/:id/retest; the serial is the return's own. */
-export const returnRetestFieldsSchema = z.object({
+export const returnRetestFieldsSchema = uploadFieldsSchema.pick({ station: true, ambientC: true, note: true }).extend({
   serial: z.string().trim().max(64).optional(),
-  station: z.coerce.number().int().positive().optional(),
-  ambientC: z.coerce.number().min(-20, 'ambientC must be between -20 and 60 °C').max(60, 'ambientC must be between -20 and 60 °C').optional(),
-  note: z.string().trim().max(500).optional(),
 })
 
 export const returnCategoryCreateSchema = z.object({

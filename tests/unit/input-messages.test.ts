@@ -1,6 +1,7 @@
 /** What people read when a form's input is refused: plain words, never a raw path or NaN. */
 import { describe, expect, it } from 'vitest'
 import { ambientCSchema, uploadFieldsSchema } from '../../shared/utils/bench'
+import { returnRetestFieldsSchema } from '../../shared/utils/returns'
 import { sendCertificateSchema } from '../../shared/utils/units'
 import { InputValidationError, issueText } from '../../server/utils/errors'
 
@@ -29,6 +30,11 @@ describe('room temperature (ambientC)', () => {
   it('refuses a value outside -20 to 60 °C with the range', () => {
     expect(ambientCSchema.safeParse('61').error!.issues[0]!.message).toContain('between -20 and 60 °C')
     expect(uploadFieldsSchema.safeParse({ serial: 'AB-123', ambientC: '-20,5' }).success).toBe(false)
+  })
+
+  it('reads the return re-test form the same way as the Bench', () => {
+    expect(returnRetestFieldsSchema.parse({ station: '3', ambientC: '22,5' })).toEqual({ station: 3, ambientC: 22.5 })
+    expect(returnRetestFieldsSchema.safeParse({ ambientC: 'warm' }).error!.issues[0]!.message).toBe('Room temperature (ambientC) must be a number of °C, such as 22.5')
   })
 })
 
