@@ -2,7 +2,7 @@ import { join } from 'node:path'
 import type { Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { DEMO_DRIVER, generateRecording, mulberry32 } from '../../fixtures/generator'
-import { signInAs, useBrowser } from '../support/browser'
+import { hydrated, signInAs, useBrowser } from '../support/browser'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
@@ -46,8 +46,6 @@ afterAll(async () => {
   await closeTestDb()
 })
 
-/** Clicks before hydration would be lost: wait until Vue has mounted the app. */
-const hydrated = (page: Page) => page.waitForFunction('!!(document.querySelector("#__nuxt") && document.querySelector("#__nuxt").__vue_app__)')
 
 async function shot(page: Page, name: string) {
   if (shots) await page.screenshot({ path: join(shots, `${name}.png`), fullPage: true })

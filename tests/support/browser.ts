@@ -56,3 +56,17 @@ export async function signInAs(page: Page, baseUrl: string, role: Role, path: st
   await page.click('button[type=submit]')
   await page.waitForURL((u) => u.pathname === path)
 }
+
+/**
+ * Keys typed before hydration would be lost: wait until Vue has mounted the app. Polled from here
+ * with page.evaluate (run through the DevTools protocol) rather than waitForFunction, whose
+ * in-page polling evaluates code that the content security policy (no 'unsafe-eval') refuses.
+ */
+export async function hydrated(page: Page, timeoutMs = 30_000): Promise<void> {
+  const until = Date.now() + timeoutMs
+  const mounted = () => page.evaluate(() => Boolean((document.querySelector('#__nuxt') as { __vue_app__?: unknown } | null)?.__vue_app__))
+  while (!(await mounted())) {
+    if (Date.now() > until) throw new Error(`the page did not hydrate within ${timeoutMs} ms`)
+    await page.waitForTimeout(50)
+  }
+}
