@@ -1,15 +1,11 @@
-import { join } from 'node:path'
-import type { Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { DEMO_DRIVER, generateRecording, mulberry32 } from '../../fixtures/generator'
-import { hydrated, signInAs, useBrowser } from '../support/browser'
+import { hydrated, shot, signInAs, useBrowser } from '../support/browser'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
 
 const baseUrl = inject('baseUrl')
-/** Set CONETRAIL_SHOTS=<dir> to keep screenshots of the lot pages for a look by eye. */
-const shots = process.env.CONETRAIL_SHOTS
 const browser = useBrowser()
 const UNITS = 5
 /** Units 2 and 4 (of 5) are recorded with their leads swapped. */
@@ -46,10 +42,6 @@ afterAll(async () => {
   await closeTestDb()
 })
 
-
-async function shot(page: Page, name: string) {
-  if (shots) await page.screenshot({ path: join(shots, `${name}.png`), fullPage: true })
-}
 
 describe('the lot pages', () => {
   it('shows quality the lot with its yield, its report, Pareto with likely cause, and exports', async () => {
@@ -167,7 +159,7 @@ describe('the lot pages', () => {
     ])
     expect(put.status()).toBe(200)
     await page.locator('[role=status], [role=alert]').first().waitFor()
-    if (shots) await shot(page, 'causes-saved')
+    await shot(page, 'causes-saved')
     expect(await page.getByRole('alert').count()).toBe(0)
     await expect.poll(() => row.textContent(), { timeout: 10_000 }).toContain(extra)
     expect(await row.textContent()).toMatch(/leads swapped/i)
@@ -201,7 +193,7 @@ describe('the lot pages', () => {
     expect(await fs.locator('details li').first().textContent()).toMatch(/#2[1-4] /)
     await fs.locator('canvas').first().waitFor()
     await fs.scrollIntoViewIfNeeded()
-    if (shots) await page.screenshot({ path: join(shots, 'lot-drift.png'), fullPage: true })
+    await shot(page, 'lot-drift')
     await page.close()
   }, 120_000)
 })

@@ -4,18 +4,14 @@
  * comparison with the factory test (delta table and trade-practice readings) and closes it with a
  * disposition. Seeds 1300–1309 (this file's part of the returns range 1200–1399).
  */
-import { join } from 'node:path'
-import type { Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { DEMO_DRIVER, generateRecording } from '../../fixtures/generator'
-import { hydrated, signInAs, useBrowser } from '../support/browser'
+import { hydrated, shot, signInAs, useBrowser } from '../support/browser'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
 
 const baseUrl = inject('baseUrl')
-/** Set CONETRAIL_SHOTS=<dir> to keep screenshots for a look by eye. */
-const shots = process.env.CONETRAIL_SHOTS
 const browser = useBrowser()
 const serial = `${unique('RBR')}-0001`
 let stationId: number
@@ -41,10 +37,6 @@ afterAll(async () => {
   await closeTestDb()
 })
 
-
-async function shot(page: Page, name: string) {
-  if (shots) await page.screenshot({ path: join(shots, `${name}.png`), fullPage: true })
-}
 
 describe('a return from the search box to its disposition', () => {
   it('support registers, re-tests, compares and closes a returned unit', async () => {

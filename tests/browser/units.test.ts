@@ -3,18 +3,15 @@
  * scanner types it opens the unit's record with its verdict and figures; a prefix opens the list;
  * an unknown serial says "never tested here" with the nearest serial. Seeds 1150–1159.
  */
-import { join } from 'node:path'
 import type { Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
-import { hydrated, signInAs, useBrowser } from '../support/browser'
+import { hydrated, shot, signInAs, useBrowser } from '../support/browser'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
 
 const baseUrl = inject('baseUrl')
-/** Set CONETRAIL_SHOTS=<dir> to keep screenshots of the unit pages for a look by eye. */
-const shots = process.env.CONETRAIL_SHOTS
 const browser = useBrowser()
 const prefix = `${unique('UB')}-`
 const serials = [`${prefix}0001`, `${prefix}0002`]
@@ -43,10 +40,6 @@ afterAll(async () => {
   await closeTestDb()
 })
 
-
-async function shot(page: Page, name: string) {
-  if (shots) await page.screenshot({ path: join(shots, `${name}.png`), fullPage: true })
-}
 
 /** Types into the header's search box the way a barcode scanner does: characters, then Enter. */
 async function scan(page: Page, text: string) {

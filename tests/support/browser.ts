@@ -1,5 +1,6 @@
 import { spawnSync } from 'node:child_process'
 import { existsSync } from 'node:fs'
+import { join } from 'node:path'
 import { chromium, type Browser, type Page } from 'playwright-core'
 import { afterAll, beforeAll } from 'vitest'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
@@ -69,4 +70,10 @@ export async function hydrated(page: Page, timeoutMs = 30_000): Promise<void> {
     if (Date.now() > until) throw new Error(`the page did not hydrate within ${timeoutMs} ms`)
     await page.waitForTimeout(50)
   }
+}
+
+/** Set CONETRAIL_SHOTS=<dir> to keep full-page screenshots of the pages a test visits, for a look by eye. */
+export async function shot(page: Page, name: string): Promise<void> {
+  const dir = process.env.CONETRAIL_SHOTS
+  if (dir) await page.screenshot({ path: join(dir, `${name}.png`), fullPage: true })
 }
