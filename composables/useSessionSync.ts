@@ -31,6 +31,8 @@ function statusOf(err: unknown): number | undefined {
  * cleared then. A network failure keeps what the client has; the server guards every request anyway.
  */
 export async function syncSession(): Promise<boolean> {
+  // Taken before the first await: on the server the Nuxt instance is not reachable after it.
+  const nuxtApp = useNuxtApp()
   const { session, clear } = useUserSession()
   try {
     const me = await useRequestFetch()<MeResponse>(ME_URL)
@@ -38,7 +40,7 @@ export async function syncSession(): Promise<boolean> {
     return true
   } catch (err) {
     if (statusOf(err) !== 401) return true
-    await clear()
+    await nuxtApp.runWithContext(() => clear())
     return false
   }
 }

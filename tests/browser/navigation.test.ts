@@ -84,7 +84,9 @@ describe('an open page follows changes to the account', () => {
     const people = (await (await call('/api/people', { headers: { cookie: admin } })).json()) as { id: number; email: string }[]
     const id = people.find((p) => p.email === email)!.id
 
-    const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
+    // One browser with two tabs: both hold the same session cookie.
+    const context = await browser().newContext({ viewport: { width: 1366, height: 768 } })
+    const page = await context.newPage()
     await page.goto(new URL('/login?redirect=/lots', baseUrl).toString())
     await page.fill('input[name=email]', email)
     await page.fill('input[name=password]', PASSWORD)
@@ -100,7 +102,14 @@ describe('an open page follows changes to the account', () => {
     expect(await nav.getByRole('link', { name: 'Lots' }).count()).toBe(0)
     expect(await nav.getByRole('link', { name: 'Returns' }).count()).toBe(1)
 
+    const other = await context.newPage()
     expect((await call(`/api/people/${id}`, json(admin, 'PATCH', { active: false }))).status).toBe(200)
+    // A full load in another tab of the same browser (the server renders it): sign-in, not an error page.
+    await other.goto(new URL('/returns', baseUrl).toString())
+    await other.waitForURL((u) => u.pathname === '/login')
+    expect(await other.getByTestId('login-ended').textContent()).toContain('Your session has ended')
+    expect(await other.locator('body').textContent()).not.toContain('Something went wrong')
+    await other.close()
     await nav.getByRole('link', { name: 'Returns' }).click()
     await page.waitForURL((u) => u.pathname === '/login')
     expect(await page.getByTestId('login-ended').textContent()).toContain('Your session has ended')
@@ -108,7 +117,7 @@ describe('an open page follows changes to the account', () => {
     await page.reload()
     expect(new URL(page.url()).pathname).toBe('/login')
     expect(await page.locator('input[name=email]').count()).toBe(1)
-    await page.close()
+    await context.close()
   })
 })
 
