@@ -80,7 +80,14 @@ describe('the bench page', () => {
     await page.getByTestId('bench-station').selectOption(String(station.id))
     await page.getByTestId('bench-product').selectOption(judged.code)
     await page.getByTestId('bench-lot').fill('LOT-A1')
-    await page.getByTestId('bench-ambient').fill('24')
+    // Room temperature: a word is refused beside the field; a decimal comma is read as a number.
+    const ambient = page.getByTestId('bench-ambient')
+    await ambient.fill('warm')
+    expect(await ambient.locator('xpath=..').getByRole('alert').textContent()).toContain('must be a number of °C')
+    await ambient.fill('23,5')
+    expect(await ambient.locator('xpath=..').getByRole('alert').count()).toBe(0)
+    expect(await page.evaluate(() => JSON.parse(localStorage.getItem('conetrail.bench.v1') ?? '{}').ambientC)).toBe(23.5)
+    await ambient.fill('24')
     await page.getByTestId('bench-file').setInputFiles(files.good)
     await expect.poll(() => page.getByTestId('bench-file-name').textContent()).toBe('unit-good.wav')
 
