@@ -68,5 +68,11 @@ export const AUDIT_ACTION_LABELS: Record<string, string> = {
   'lot.report_sent': 'Lot report e-mailed',
   'certificate.download': 'Certificate downloaded',
   'certificate.send': 'Certificate e-mailed',
+  'return.register': 'Return registered',
+  'return.edit': 'Return edited',
+  'return.attach': 'Return attachment added',
+  'return.retest': 'Return re-test uploaded',
   'return.close': 'Return closed',
+  'return-category.add': 'Complaint category added',
+  'return-category.change': 'Complaint category changed',
 }

@@ -1,4 +1,7 @@
+import { readdirSync, readFileSync } from 'node:fs'
+import { join, resolve } from 'node:path'
 import { describe, expect, it } from 'vitest'
+import { AUDIT_ACTION_LABELS } from '../../shared/utils/people'
 import { ROLES, isRole, roleAllows } from '../../shared/utils/roles'
 import { NAV_ITEMS, homeFor, navItemFor } from '../../shared/utils/navigation'
 
@@ -51,5 +54,21 @@ describe('navigation by role', () => {
     expect(navItemFor('/masks/12/preview')?.label).toBe('Masks')
     expect(navItemFor('/login')).toBeUndefined()
     expect(navItemFor('/benchmark')).toBeUndefined()
+  })
+})
+
+describe('audit log labels', () => {
+  // Every action the server writes (a literal `action: '…'`, or both sides of a ternary) reads as
+  // words on the audit page: a new audited event without a label fails here.
+  it('has a label for every action written under server/', () => {
+    const root = resolve(import.meta.dirname, '../../server')
+    const files = readdirSync(root, { recursive: true, encoding: 'utf8' }).filter((f) => f.endsWith('.ts'))
+    const actions = new Set<string>()
+    for (const f of files) {
+      const src = readFileSync(join(root, f), 'utf8')
+      for (const m of src.matchAll(/action:\s*([^,}\n]+)/g)) for (const a of m[1]!.matchAll(/'([a-z][a-z_-]*\.[a-z_]+)'/g)) actions.add(a[1]!)
+    }
+    expect(actions.size).toBeGreaterThan(20)
+    expect([...actions].filter((a) => !(a in AUDIT_ACTION_LABELS))).toEqual([])
   })
 })
