@@ -62,6 +62,9 @@ describe('pages on a phone', () => {
     const page = await browser().newPage({ viewport: PHONE })
     await signInAs(page, baseUrl, 'admin', '/people')
     expect(await pageWidth(page, 'people-table')).toBeLessThanOrEqual(PHONE.width)
+    // The role control is on screen without scrolling the table (the e-mail moves under the name).
+    const role = await page.getByTestId(`person-${demoEmail('admin')}`).getByRole('combobox').boundingBox()
+    expect(role!.x + role!.width).toBeLessThanOrEqual(PHONE.width)
     await page.close()
   })
 
