@@ -2,14 +2,14 @@
 import type { Knex } from 'knex'
 import { renderLotReportPdf } from '../reports/pdf'
 import { getLotReport } from '../services/lot-report'
-import type { LotReportSent, SendLotReportInput } from '../../shared/utils/alerts'
+import type { LotReportSent, SendLotReportInput } from '../../shared/utils/lot-report-mail'
 import { sendMail } from './index'
 
 const pct = (x: number | null) => (x === null ? 'n/a' : `${Math.round(x * 1000) / 10} %`)
 
 /**
  * Renders the lot's report and mails it; undefined for an unknown lot.
- * @throws MailNotConfigured, or the SMTP server's refusal.
+ * @throws MailError (`mail_not_configured`, `mail_failed`).
  */
 export async function sendLotReport(db: Knex, lotCode: string, input: SendLotReportInput, by: { displayName: string; email: string }): Promise<LotReportSent | undefined> {
   const report = await getLotReport(db, lotCode)

@@ -1,6 +1,6 @@
 import type { Knex } from 'knex'
 import type { AuditEntryView, AuditPage } from '../../shared/types/people'
-import type { AuditQuery } from '../../shared/utils/people'
+import type { AuditQuery } from '../../shared/utils/audit'
 
 export interface AuditEntry {
   userId: number | null

@@ -1,5 +1,5 @@
 import type { Knex } from 'knex'
-import type { RecordingStatus } from '../../shared/utils/bench.ts'
+import type { RecordingStatus } from '../../shared/utils/recordings.ts'
 import type { CurveLimit, RecordingCurves, RecordingSummary, RecordingView } from '../../shared/types/api.ts'
 
 export interface RecordingRow {

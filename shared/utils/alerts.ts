@@ -1,11 +1,9 @@
 import { z } from 'zod'
+import { mailRecipientSchema } from './lot-report-mail'
 
 /** Defaults of a product's alert rules (the migration's column defaults). */
 export const ALERT_DEFAULTS = { lastN: 50, minYieldPct: 90, enabled: true } as const
 export const MAX_SUBSCRIBERS = 50
-export const MAX_RECIPIENTS = 20
-
-const email = z.string().trim().toLowerCase().max(254).pipe(z.email('Enter a valid e-mail address'))
 
 /** PUT /api/products/[code]/alerting and the alerting form. */
 export const alertingSchema = z.object({
@@ -13,7 +11,7 @@ export const alertingSchema = z.object({
   minYieldPct: z.number().min(0, '0 to 100 %').max(100, '0 to 100 %'),
   enabled: z.boolean(),
   subscribers: z
-    .array(email)
+    .array(mailRecipientSchema)
     .max(MAX_SUBSCRIBERS, `At most ${MAX_SUBSCRIBERS} subscribers`)
     .transform((list) => [...new Set(list)]),
 })
@@ -26,20 +24,3 @@ export const alertsQuerySchema = z.object({
   product: z.string().trim().min(1).max(64).optional(),
   limit: z.coerce.number().int().min(1).max(500).default(100),
 })
-
-/** POST /api/lots/[code]/send and its form. */
-export const sendLotReportSchema = z.object({
-  recipients: z.array(email).min(1, 'Name at least one recipient').max(MAX_RECIPIENTS, `At most ${MAX_RECIPIENTS} recipients`),
-  message: z.string().trim().max(4000).optional(),
-})
-export type SendLotReportInput = z.infer<typeof sendLotReportSchema>
-
-/** POST /api/lots/[code]/send answer. */
-export interface LotReportSent {
-  lotCode: string
-  recipients: string[]
-  /** Addresses the SMTP server accepted. */
-  accepted: string[]
-  messageId: string
-  attachment: string
-}

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { codeSchema } from './bench'
+import { codeSchema } from './ids'
 import { coilSchema, DEFAULT_RE_WARN_PCT } from './coil'
 import type { ProductView } from '../types/api'
 

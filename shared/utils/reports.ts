@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { codeSchema } from './bench'
+import { codeSchema } from './ids'
 
 /** GET /api/lots: `?product=CODE&open=true`. */
 export const lotListQuerySchema = z.object({

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { uploadFieldsSchema } from './bench'
+import { uploadFieldsSchema } from './recordings'
 import { normalizeSerialQuery } from './units'
 import type { CompareFigure, CompareFigures, CompareReading, DeltaRow, Disposition } from '../types/returns'
 

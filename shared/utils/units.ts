@@ -2,7 +2,7 @@ import { z } from 'zod'
 
 /** Shortest text the unit search takes (one character would list a whole factory). */
 export const SEARCH_MIN_CHARS = 2
-/** Longest serial (the upload's rule, shared/utils/bench.ts serialSchema). */
+/** Longest serial (the upload's rule, shared/utils/ids.ts serialSchema). */
 export const SEARCH_MAX_CHARS = 64
 /** Prefix matches listed at most (newest first); the answer says when there are more. */
 export const SEARCH_LIST_LIMIT = 50

@@ -1,6 +1,6 @@
 /** What people read when a form's input is refused: plain words, never a raw path or NaN. */
 import { describe, expect, it } from 'vitest'
-import { ambientCSchema, uploadFieldsSchema } from '../../shared/utils/bench'
+import { ambientCSchema, uploadFieldsSchema } from '../../shared/utils/recordings'
 import { returnRetestFieldsSchema } from '../../shared/utils/returns'
 import { sendCertificateSchema } from '../../shared/utils/units'
 import { InputValidationError, issueText } from '../../server/utils/errors'

@@ -1,7 +1,7 @@
 import { readdirSync, readFileSync } from 'node:fs'
 import { join, resolve } from 'node:path'
 import { describe, expect, it } from 'vitest'
-import { AUDIT_ACTION_LABELS } from '../../shared/utils/people'
+import { AUDIT_ACTION_LABELS } from '../../shared/utils/audit'
 import { ROLES, isRole, roleAllows } from '../../shared/utils/roles'
 import { NAV_ITEMS, homeFor, navItemFor } from '../../shared/utils/navigation'
 

@@ -1,5 +1,5 @@
 import { listAudit } from '../../repos/audit'
-import { auditQuerySchema } from '../../../shared/utils/people'
+import { auditQuerySchema } from '../../../shared/utils/audit'
 import type { AuditPage } from '../../../shared/types/people'
 
 /** The audit log, newest first: `?from&to` (ISO times), `actor`, `action`, `subject`, `page`, `pageSize`. */

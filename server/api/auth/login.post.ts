@@ -1,7 +1,7 @@
 // access: public
 import { getUserByEmail, normaliseEmail, recordLogin } from '../../repos/users'
 import { writeAudit } from '../../repos/audit'
-import { loginSchema } from '../../../shared/utils/schemas'
+import { loginSchema } from '../../../shared/utils/sign-in'
 import type { MeResponse } from '../../../shared/types/api'
 
 // Verified when the e-mail is unknown, so that a wrong e-mail and a wrong password take the same time.

@@ -1,5 +1,5 @@
 import { getMaskView } from '../../services/masks'
-import { idParamSchema } from '../../../shared/utils/bench'
+import { idParamSchema } from '../../../shared/utils/ids'
 import type { MaskView } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

@@ -1,6 +1,6 @@
 import { updateMaskDraft } from '../../repos/masks'
 import { getMaskView } from '../../services/masks'
-import { idParamSchema } from '../../../shared/utils/bench'
+import { idParamSchema } from '../../../shared/utils/ids'
 import { maskPatchSchema } from '../../../shared/utils/mask'
 import type { MaskView } from '../../../shared/types/api'
 

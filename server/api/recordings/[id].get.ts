@@ -1,5 +1,6 @@
 import { getRecordingView } from '../../repos/recordings'
-import { curvesQuerySchema, idParamSchema } from '../../../shared/utils/bench'
+import { curvesQuerySchema } from '../../../shared/utils/recordings'
+import { idParamSchema } from '../../../shared/utils/ids'
 import type { RecordingView } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

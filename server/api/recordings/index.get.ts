@@ -1,5 +1,5 @@
 import { listRecentRecordings } from '../../repos/recordings'
-import { recentQuerySchema } from '../../../shared/utils/bench'
+import { recentQuerySchema } from '../../../shared/utils/recordings'
 import type { RecordingSummary } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

@@ -1,6 +1,6 @@
 import { rm } from 'node:fs/promises'
 import { acceptUpload } from '../../services/ingest'
-import { uploadFieldsSchema } from '../../../shared/utils/bench'
+import { uploadFieldsSchema } from '../../../shared/utils/recordings'
 import type { UploadAccepted } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

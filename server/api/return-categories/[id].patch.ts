@@ -1,5 +1,5 @@
 import { editReturnCategory } from '../../services/returns'
-import { idParamSchema } from '../../../shared/utils/bench'
+import { idParamSchema } from '../../../shared/utils/ids'
 import { returnCategoryPatchSchema } from '../../../shared/utils/returns'
 import type { ReturnCategoryView } from '../../../shared/types/returns'
 

@@ -1,5 +1,5 @@
 import { getReturn } from '../../services/returns'
-import { idParamSchema } from '../../../shared/utils/bench'
+import { idParamSchema } from '../../../shared/utils/ids'
 import type { ReturnView } from '../../../shared/types/returns'
 
 export default defineEventHandler(async (event) => {

@@ -1,5 +1,5 @@
 import { editReturn } from '../../services/returns'
-import { idParamSchema } from '../../../shared/utils/bench'
+import { idParamSchema } from '../../../shared/utils/ids'
 import { returnPatchSchema } from '../../../shared/utils/returns'
 import type { ReturnView } from '../../../shared/types/returns'
 

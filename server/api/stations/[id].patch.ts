@@ -1,6 +1,7 @@
 import { mergeProfile, updateStation } from '../../repos/stations'
 import { stationProfileSchema, type StationProfile } from '../../analysis/index'
-import { idParamSchema, stationPatchSchema } from '../../../shared/utils/bench'
+import { idParamSchema } from '../../../shared/utils/ids'
+import { stationPatchSchema } from '../../../shared/utils/stations'
 import type { StationView } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

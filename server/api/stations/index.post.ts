@@ -1,6 +1,6 @@
 import { createStation } from '../../repos/stations'
 import { stationProfileSchema } from '../../analysis/index'
-import { stationCreateSchema } from '../../../shared/utils/bench'
+import { stationCreateSchema } from '../../../shared/utils/stations'
 import type { StationToken } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

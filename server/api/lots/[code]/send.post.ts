@@ -2,7 +2,7 @@ import { MailNotConfigured } from '../../../mail/index'
 import { sendLotReport } from '../../../mail/lot-report'
 import { lotParamSchema } from '../../../../shared/utils/reports'
 import { writeAudit } from '../../../repos/audit'
-import { sendLotReportSchema, type LotReportSent } from '../../../../shared/utils/alerts'
+import { sendLotReportSchema, type LotReportSent } from '../../../../shared/utils/lot-report-mail'
 
 /** E-mails the lot report PDF to 1–20 recipients (quality and engineers). 503 when mail cannot go out. */
 export default defineEventHandler(async (event) => {

@@ -1,5 +1,5 @@
 import { previewMask } from '../../../services/masks'
-import { idParamSchema } from '../../../../shared/utils/bench'
+import { idParamSchema } from '../../../../shared/utils/ids'
 import { previewQuerySchema } from '../../../../shared/utils/mask'
 import type { MaskPreview } from '../../../../shared/types/api'
 

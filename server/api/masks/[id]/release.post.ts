@@ -1,5 +1,5 @@
 import { releaseAndJudge } from '../../../services/masks'
-import { idParamSchema } from '../../../../shared/utils/bench'
+import { idParamSchema } from '../../../../shared/utils/ids'
 import { maskReleaseSchema } from '../../../../shared/utils/mask'
 import type { MaskTransition } from '../../../../shared/types/api'
 

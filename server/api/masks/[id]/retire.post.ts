@@ -1,5 +1,5 @@
 import { retireMask } from '../../../repos/masks'
-import { idParamSchema } from '../../../../shared/utils/bench'
+import { idParamSchema } from '../../../../shared/utils/ids'
 import { maskRetireSchema } from '../../../../shared/utils/mask'
 import type { MaskTransition } from '../../../../shared/types/api'
 

@@ -1,5 +1,5 @@
 import { compareReturn } from '../../../services/return-compare'
-import { idParamSchema } from '../../../../shared/utils/bench'
+import { idParamSchema } from '../../../../shared/utils/ids'
 import type { ReturnComparison } from '../../../../shared/types/returns'
 
 export default defineEventHandler(async (event) => {

@@ -1,6 +1,6 @@
 import { rm } from 'node:fs/promises'
 import { retestReturn } from '../../../services/returns'
-import { idParamSchema } from '../../../../shared/utils/bench'
+import { idParamSchema } from '../../../../shared/utils/ids'
 import { returnRetestFieldsSchema } from '../../../../shared/utils/returns'
 import type { UploadAccepted } from '../../../../shared/types/api'
 

@@ -1,5 +1,5 @@
 import { rotateStationToken } from '../../../repos/stations'
-import { idParamSchema } from '../../../../shared/utils/bench'
+import { idParamSchema } from '../../../../shared/utils/ids'
 import type { StationToken } from '../../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

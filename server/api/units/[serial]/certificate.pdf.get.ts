@@ -1,5 +1,5 @@
 import { CertificateError, downloadCertificate } from '../../../services/units'
-import { serialParamSchema } from '../../../../shared/utils/bench'
+import { serialParamSchema } from '../../../../shared/utils/ids'
 import { CERTIFICATE_ROLES } from '../../../../shared/utils/units'
 
 /** The unit's one-page test certificate (support, quality, engineers); every download is audited. */

@@ -1,5 +1,5 @@
 import { getUnitView } from '../../../services/units'
-import { serialParamSchema } from '../../../../shared/utils/bench'
+import { serialParamSchema } from '../../../../shared/utils/ids'
 import type { UnitView } from '../../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {

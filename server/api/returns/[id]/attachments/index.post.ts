@@ -1,7 +1,7 @@
 import { rm } from 'node:fs/promises'
 import { addReturnAttachment } from '../../../../services/returns'
 import { maxAttachmentBytes, useAttachmentStorage } from '../../../../storage/attachments'
-import { idParamSchema } from '../../../../../shared/utils/bench'
+import { idParamSchema } from '../../../../../shared/utils/ids'
 import type { ReturnAttachmentView } from '../../../../../shared/types/returns'
 
 /** A PNG, JPEG or PDF (told by its bytes, 415 otherwise), up to CONETRAIL_MAX_ATTACHMENT_MB (413). */

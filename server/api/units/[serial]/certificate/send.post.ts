@@ -1,7 +1,7 @@
 import { MailNotConfigured } from '../../../../mail/index'
 import { sendCertificate } from '../../../../mail/certificate'
 import { CertificateError } from '../../../../services/units'
-import { serialParamSchema } from '../../../../../shared/utils/bench'
+import { serialParamSchema } from '../../../../../shared/utils/ids'
 import { CERTIFICATE_ROLES, sendCertificateSchema } from '../../../../../shared/utils/units'
 import type { CertificateSent } from '../../../../../shared/types/units'
 
