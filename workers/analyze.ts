@@ -13,7 +13,7 @@ import type PgBoss from 'pg-boss'
 import { knexConfig } from '../knexfile'
 import { loadConfig } from '../server/utils/config'
 import { ANALYSE_QUEUE, createBoss, ensureQueue, type AnalyseJob } from '../server/queue/index'
-import { failOrphanedRecordings, markFinishedWithError } from '../server/repos/recordings'
+import { failOrphanedRecordings, getRecording, markFinishedWithError } from '../server/repos/recordings'
 import { processRecording } from '../server/services/analyse'
 import { evaluateAlerts } from '../server/services/alerts'
 import { directoryStorage } from '../server/storage/recordings'
@@ -80,7 +80,7 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
   /** Alert rules after a saved result. Never throws: an alert or mail failure must not fail (or retry) the analysis. */
   async function checkAlerts(recordingId: number) {
     try {
-      const rec = await db('recordings').where({ id: recordingId }).first('unit_id')
+      const rec = await getRecording(db, recordingId)
       if (!rec) return
       for (const c of await evaluateAlerts(db, { unitId: Number(rec.unit_id) }, { log })) log(`alert ${c.alertId} (${c.kind}): ${c.change}`)
     } catch (err) {

@@ -1,5 +1,6 @@
 // access: public (load balancers and the test setup ask it without a session)
 import type { HealthResponse } from '../../shared/types/api'
+import { pingDatabase } from '../repos/health'
 import { RETRY_AFTER_S } from '../utils/errors'
 
 const DB_TIMEOUT_MS = 2000
@@ -10,7 +11,7 @@ export default defineEventHandler(async (event) => {
   let dbOk = false
   try {
     await Promise.race([
-      useDb().raw('select 1'),
+      pingDatabase(useDb()),
       new Promise((_, reject) => setTimeout(() => reject(new Error('timeout')), DB_TIMEOUT_MS)),
     ])
     dbOk = true

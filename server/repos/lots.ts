@@ -104,7 +104,7 @@ export interface LotFilter {
  * one (definitions as in server/stats/yield.ts: first-pass yield over units whose first result is
  * judged, final yield over units judged).
  */
-export async function listLotSummaries(db: Knex, filter: LotFilter = {}): Promise<LotSummary[]> {
+export async function listLots(db: Knex, filter: LotFilter = {}): Promise<LotSummary[]> {
   const lots = db('lots as l')
     .join('products as p', 'p.id', 'l.product_id')
     .select('l.id', 'l.code', 'l.created_at', 'l.closed_at', 'p.code as product_code', 'p.name as product_name')

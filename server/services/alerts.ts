@@ -1,5 +1,6 @@
 /**
- * Alert rules (issue 6, "E-mail"), evaluated after each saved result:
+ * Alert rules, evaluated after each saved result so quality hears of a problem by e-mail while the
+ * lot is still on the line:
  * - low yield: the yield of the last N judged units of an open lot (each unit's latest judged
  *   result, return tests left out) below the product's threshold. Evaluated once the lot has N
  *   judged units, so a few early failures of a new lot do not raise the alarm on their own;
@@ -10,18 +11,31 @@
  * the condition clears; a later return of the condition is a new episode and a new e-mail.
  */
 import type { Knex } from 'knex'
-import type { AlertView } from '../../shared/types/reports'
-import { ALERT_DEFAULTS, type AlertingInput, type AlertingView } from '../../shared/utils/alerts'
-import { describeSignal, imrChart, RUN_RULES, type Verdict } from '../stats/index'
+import type { AlertingInput, AlertingView } from '../../shared/utils/alerts'
+import { describeSignal, imrChart, RUN_RULES } from '../stats/index'
+import type { Verdict } from '../../shared/utils/verdict'
 import { sendMail, type OutgoingMail } from '../mail/index'
+import {
+  claimAlertMail,
+  closeAlert,
+  findAlertLot,
+  getAlertSettings,
+  latestLotVerdicts,
+  listLotFirstFigures,
+  listSubscribers,
+  listUnmailedOpenAlerts,
+  lockLotAlerts,
+  openAlert,
+  releaseAlertMail,
+  replaceAlerting,
+  type AlertKind,
+  type AlertLotRow,
+  type AlertRow,
+  type AlertSettings,
+} from '../repos/alerts'
 
-export type AlertKind = AlertView['kind']
-
-export interface AlertSettings {
-  lastN: number
-  minYieldPct: number
-  enabled: boolean
-}
+export { getAlertSettings, listAlerts } from '../repos/alerts'
+export type { AlertKind, AlertSettings } from '../repos/alerts'
 
 // ---------------------------------------------------------------------------------------------
 // Pure decisions (unit-tested)
@@ -66,83 +80,15 @@ export function driftAtLatest(series: readonly DriftSeries[]): string[] {
 // ---------------------------------------------------------------------------------------------
 // Settings and subscribers
 
-interface SettingsRow {
-  last_n: number
-  min_yield_pct: number
-  enabled: boolean
-}
-
-export async function getAlertSettings(db: Knex, productId: number): Promise<AlertSettings> {
-  const row: SettingsRow | undefined = await db('alert_settings').where({ product_id: productId }).first()
-  return row ? { lastN: row.last_n, minYieldPct: row.min_yield_pct, enabled: row.enabled } : { ...ALERT_DEFAULTS }
-}
-
 export async function getAlerting(db: Knex, productId: number): Promise<AlertingView> {
-  const subscribers = await db('product_subscribers').where({ product_id: productId }).orderBy('email').pluck<string[]>('email')
+  const subscribers = await listSubscribers(db, productId)
   return { ...(await getAlertSettings(db, productId)), subscribers }
 }
 
 /** Replaces a product's alert rules and subscribers in one transaction. */
 export async function setAlerting(db: Knex, productId: number, input: AlertingInput, by: number | null): Promise<AlertingView> {
-  await db.transaction(async (trx) => {
-    await trx('alert_settings')
-      .insert({ product_id: productId, last_n: input.lastN, min_yield_pct: input.minYieldPct, enabled: input.enabled, updated_by: by, updated_at: trx.fn.now() })
-      .onConflict('product_id')
-      .merge()
-    await trx('product_subscribers').where({ product_id: productId }).whereNotIn('email', input.subscribers).delete()
-    if (input.subscribers.length) {
-      await trx('product_subscribers')
-        .insert(input.subscribers.map((email) => ({ product_id: productId, email })))
-        .onConflict(['product_id', 'email'])
-        .ignore()
-    }
-    // Switching alerts off ends the product's open episodes: nobody is watching them any more.
-    if (!input.enabled) await trx('alerts').where({ product_id: productId }).whereNull('closed_at').update({ closed_at: trx.fn.now() })
-  })
+  await replaceAlerting(db, productId, input, by)
   return getAlerting(db, productId)
-}
-
-// ---------------------------------------------------------------------------------------------
-// Listing
-
-interface AlertRow {
-  id: string
-  product_id: string
-  lot_id: string | null
-  kind: AlertKind
-  episode: number
-  message: string
-  details: Record<string, unknown>
-  opened_at: Date
-  closed_at: Date | null
-  mailed_at: Date | null
-}
-
-function toView(r: AlertRow & { product_code: string; lot_code: string | null }): AlertView {
-  return {
-    id: Number(r.id),
-    productCode: r.product_code,
-    lotCode: r.lot_code,
-    kind: r.kind,
-    message: r.message,
-    openedAt: r.opened_at.toISOString(),
-    closedAt: r.closed_at?.toISOString() ?? null,
-    mailedAt: r.mailed_at?.toISOString() ?? null,
-  }
-}
-
-export async function listAlerts(db: Knex, filter: { open?: boolean; productCode?: string; limit: number }): Promise<AlertView[]> {
-  const q = db('alerts as a')
-    .join('products as p', 'p.id', 'a.product_id')
-    .leftJoin('lots as l', 'l.id', 'a.lot_id')
-    .select('a.*', 'p.code as product_code', 'l.code as lot_code')
-    .orderBy('a.opened_at', 'desc')
-    .orderBy('a.id', 'desc')
-    .limit(filter.limit)
-  if (filter.open === true) q.whereNull('a.closed_at')
-  if (filter.open === false) q.whereNotNull('a.closed_at')
-  if (filter.productCode) q.where('p.code', filter.productCode)
-  return ((await q) as (AlertRow & { product_code: string; lot_code: string | null })[]).map(toView)
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -156,50 +102,8 @@ export interface AlertChange {
   change: 'opened' | 'closed' | 'mailed'
 }
 
-interface LotRow {
-  id: string
-  code: string
-  product_id: string
-  closed_at: Date | null
-  product_code: string
-  product_name: string
-}
-
-async function latestVerdicts(db: Knex, lotId: number, n: number): Promise<Verdict[]> {
-  const rows = await db
-    .select('verdict')
-    .from(
-      db('results as r')
-        .join('units as u', 'u.id', 'r.unit_id')
-        .join('recordings as rec', 'rec.id', 'r.recording_id')
-        .where('u.lot_id', lotId)
-        .whereNotNull('r.verdict')
-        .where('rec.is_return_test', false)
-        .distinctOn('r.unit_id')
-        .select('r.unit_id', 'r.id', 'r.verdict')
-        .orderBy([{ column: 'r.unit_id' }, { column: 'r.id', order: 'desc' }])
-        .as('latest'),
-    )
-    .orderBy('id', 'desc')
-    .limit(n)
-  return rows.map((r: { verdict: Verdict }) => r.verdict)
-}
-
 async function driftSeries(db: Knex, lotId: number): Promise<DriftSeries[]> {
-  const rows: { serial: string; fs_hz: number | null; re20_ohm: number | null }[] = await db
-    .select('serial', 'fs_hz', 're20_ohm')
-    .from(
-      db('results as r')
-        .join('units as u', 'u.id', 'r.unit_id')
-        .join('recordings as rec', 'rec.id', 'r.recording_id')
-        .where('u.lot_id', lotId)
-        .where('rec.is_return_test', false)
-        .distinctOn('r.unit_id')
-        .select('r.unit_id', 'r.id', 'u.serial', 'r.fs_hz', 'r.re20_ohm')
-        .orderBy([{ column: 'r.unit_id' }, { column: 'r.id', order: 'asc' }])
-        .as('first'),
-    )
-    .orderBy('id', 'asc')
+  const rows = await listLotFirstFigures(db, lotId)
   const series = (label: string, unit: string, pick: (r: (typeof rows)[number]) => number | null): DriftSeries => {
     const kept = rows.filter((r) => Number.isFinite(pick(r)))
     return { label, unit, values: kept.map((r) => pick(r)!), serials: kept.map((r) => r.serial) }
@@ -210,23 +114,7 @@ async function driftSeries(db: Knex, lotId: number): Promise<DriftSeries[]> {
 
 const fmtPct = (x: number) => `${Math.round(x * 10) / 10} %`
 
-async function openAlert(trx: Knex.Transaction, lot: LotRow, kind: AlertKind, message: string, details: Record<string, unknown>): Promise<number | null> {
-  const { rows } = await trx.raw<{ rows: { id: string }[] }>(
-    `INSERT INTO alerts (product_id, lot_id, kind, episode, message, details)
-     SELECT ?, ?, ?, coalesce(max(episode), 0) + 1, ?, ?::jsonb FROM alerts WHERE product_id = ? AND coalesce(lot_id, 0) = ? AND kind = ?
-     ON CONFLICT (product_id, coalesce(lot_id, 0), kind) WHERE closed_at IS NULL DO NOTHING
-     RETURNING id`,
-    [lot.product_id, lot.id, kind, message, JSON.stringify(details), lot.product_id, lot.id, kind],
-  )
-  return rows[0] ? Number(rows[0].id) : null
-}
-
-async function closeAlert(trx: Knex.Transaction, lot: LotRow, kind: AlertKind): Promise<number | null> {
-  const rows = await trx('alerts').where({ product_id: lot.product_id, lot_id: lot.id, kind }).whereNull('closed_at').update({ closed_at: trx.fn.now() }).returning('id')
-  return rows[0] ? Number(rows[0].id) : null
-}
-
-function mailFor(a: AlertRow, lot: LotRow, s: AlertSettings): Pick<OutgoingMail, 'subject' | 'text'> {
+function mailFor(a: AlertRow, lot: AlertLotRow, s: AlertSettings): Pick<OutgoingMail, 'subject' | 'text'> {
   const what = a.kind === 'low_yield' ? 'Low yield' : 'Process drift'
   const clears =
     a.kind === 'low_yield'
@@ -251,19 +139,17 @@ function mailFor(a: AlertRow, lot: LotRow, s: AlertSettings): Pick<OutgoingMail,
  * Mails each open alert of the lot not mailed yet. The row is claimed (mailed_at set) before
  * sending, so two workers never both send it; a failed send releases the claim for the next try.
  */
-async function mailOpenAlerts(db: Knex, lot: LotRow, s: AlertSettings, send: Mailer, log: (m: string) => void): Promise<AlertChange[]> {
-  const subscribers: string[] = await db('product_subscribers').where({ product_id: lot.product_id }).orderBy('email').pluck('email')
+async function mailOpenAlerts(db: Knex, lot: AlertLotRow, s: AlertSettings, send: Mailer, log: (m: string) => void): Promise<AlertChange[]> {
+  const subscribers = await listSubscribers(db, lot.product_id)
   if (!subscribers.length) return []
   const changes: AlertChange[] = []
-  const pending: AlertRow[] = await db('alerts').where({ lot_id: lot.id }).whereNull('closed_at').whereNull('mailed_at').orderBy('id')
-  for (const a of pending) {
-    const claimed = await db('alerts').where({ id: a.id }).whereNull('mailed_at').update({ mailed_at: db.fn.now() }).returning('id')
-    if (!claimed.length) continue
+  for (const a of await listUnmailedOpenAlerts(db, lot.id)) {
+    if (!(await claimAlertMail(db, a.id))) continue
     try {
       await send({ to: subscribers, ...mailFor(a, lot, s) })
       changes.push({ alertId: Number(a.id), kind: a.kind, change: 'mailed' })
     } catch (err) {
-      await db('alerts').where({ id: a.id }).update({ mailed_at: null })
+      await releaseAlertMail(db, a.id)
       log(`alert ${a.id}: e-mail not sent, will retry with the next result: ${err instanceof Error ? err.message : String(err)}`)
     }
   }
@@ -282,20 +168,15 @@ export async function evaluateAlerts(
 ): Promise<AlertChange[]> {
   const send = opts.send ?? sendMail
   const log = opts.log ?? ((m: string) => console.log(`[alerts] ${m}`))
-  const lotId = 'lotId' in target ? target.lotId : ((await db('units').where({ id: target.unitId }).first('lot_id')) as { lot_id: string | null } | undefined)?.lot_id
-  if (lotId === null || lotId === undefined) return []
-  const lot: LotRow | undefined = await db('lots as l')
-    .join('products as p', 'p.id', 'l.product_id')
-    .where('l.id', lotId)
-    .first('l.id', 'l.code', 'l.product_id', 'l.closed_at', 'p.code as product_code', 'p.name as product_name')
+  const lot = await findAlertLot(db, target)
   if (!lot || lot.closed_at) return []
   const settings = await getAlertSettings(db, Number(lot.product_id))
   if (!settings.enabled) return []
 
   const changes: AlertChange[] = []
   await db.transaction(async (trx) => {
-    await trx.raw('SELECT pg_advisory_xact_lock(hashtextextended(?, 0))', [`conetrail:alerts:lot:${lot.id}`])
-    const y = yieldWindow(await latestVerdicts(trx, Number(lot.id), settings.lastN), settings)
+    await lockLotAlerts(trx, lot.id)
+    const y = yieldWindow(await latestLotVerdicts(trx, Number(lot.id), settings.lastN), settings)
     if (y.low) {
       const message = `Yield ${fmtPct(y.yieldPct!)} over the last ${y.units} judged units of lot ${lot.code} (${y.units - y.passed} failed), below the ${fmtPct(settings.minYieldPct)} threshold.`
       const id = await openAlert(trx, lot, 'low_yield', message, { ...y, minYieldPct: settings.minYieldPct })

@@ -1,8 +1,8 @@
 import type { Knex } from 'knex'
 import type { DashboardView } from '../../shared/types/reports.ts'
-import { listDayYield, listLotSummaries } from '../repos/lots.ts'
+import { listDayYield, listLots } from '../repos/lots.ts'
 import { listProductReturnRates } from '../repos/returns.ts'
-import { listAlerts } from './alerts.ts'
+import { listAlerts } from '../repos/alerts.ts'
 
 const DAY_MS = 86_400_000
 
@@ -15,7 +15,7 @@ export async function getDashboard(db: Knex, day: string): Promise<DashboardView
   const to = new Date(from.getTime() + DAY_MS)
   const [lines, openLots, alerts, returnsByProduct] = await Promise.all([
     listDayYield(db, from, to),
-    listLotSummaries(db, { open: true, limit: 50 }),
+    listLots(db, { open: true, limit: 50 }),
     listAlerts(db, { open: true, limit: 50 }),
     listProductReturnRates(db),
   ])

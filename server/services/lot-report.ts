@@ -1,8 +1,8 @@
 import type { Knex } from 'knex'
-import type { ControlChartView, FigureDistribution, LikelyCause, LotReport, LotSummary, ParetoRowView, ReportFigure } from '../../shared/types/reports.ts'
+import type { ControlChartView, FigureDistribution, LikelyCause, LotReport, ParetoRowView, ReportFigure } from '../../shared/types/reports.ts'
 import { CHECK_LABELS, type MaskLimits } from '../../shared/utils/mask.ts'
 import { listCauses } from '../repos/causes.ts'
-import { getLotByCode, listGoldenFigures, listLotResults, listLotSummaries, type LotFilter, type LotResultRow, type LotRow } from '../repos/lots.ts'
+import { getLotByCode, listGoldenFigures, listLotResults, type LotResultRow, type LotRow } from '../repos/lots.ts'
 import { getActiveMask } from '../repos/masks.ts'
 import { countLotReturns, countReturnsPerUnit } from '../repos/returns.ts'
 import {
@@ -23,10 +23,6 @@ export const MIN_GOLDEN_FOR_BASELINE = 5
 
 export const REPORT_FIGURES: readonly ReportFigure[] = ['fsHz', 're20Ohm', 'qts', 'sensitivityDb', 'thdMaxPct']
 const DRIFT_FIGURES = ['fsHz', 're20Ohm'] as const
-
-export function listLots(db: Knex, filter: LotFilter): Promise<LotSummary[]> {
-  return listLotSummaries(db, filter)
-}
 
 /** A unit of the lot and its production results, oldest first. */
 interface UnitResults {

@@ -1,4 +1,4 @@
-import { listLots } from '../../services/lot-report'
+import { listLots } from '../../repos/lots'
 import { lotListQuerySchema } from '../../../shared/utils/reports'
 import type { LotSummary } from '../../../shared/types/reports'
 
