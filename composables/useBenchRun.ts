@@ -1,5 +1,5 @@
 import type { UploadAccepted } from '#shared/types/api'
-import { uploadRecording, type BenchUploadRequest } from './useBenchUpload'
+import { uploadRecording, type BenchUploadRequest } from '~/utils/bench-upload'
 
 /** Poll interval while a recording is queued or analysing (a verdict takes well under a second). */
 const POLL_MS = 400

@@ -1,6 +1,6 @@
 import type { ApiErrorBody } from '#shared/types/api'
 import { productCreateSchema, type ProductListItem } from '#shared/utils/product'
-import type { ProductDraft } from './useProductDraft'
+import type { ProductDraft } from '~/utils/product-draft'
 
 /** Field path → message, from the zod schema on the client or from a 400 answer's issues. */
 export type FieldErrors = Record<string, string>
@@ -43,7 +43,7 @@ export function useProductEditor() {
     }
   }
 
-  const create = (d: ProductDraft) => submit(d, (body) => $fetch<ProductListItem>('/api/products', { method: 'POST', body }))
+  const create = (d: ProductDraft) => submit(d, (body) => $fetch('/api/products', { method: 'POST', body }))
   // A plain string URL: Nitro's typed-route inference overflows on template literals.
   const save = (code: string, d: ProductDraft) => {
     const url: string = `/api/products/${encodeURIComponent(code)}`

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { formatWhen } from '../../composables/useWhen'
+import { formatWhen } from '../../utils/format-when'
 
 describe('formatWhen: one way to write a moment', () => {
   // Built from local parts, so the check holds in any time zone the test runs in.

@@ -1,8 +1,9 @@
 import type { CheckView, RecordingSummary } from '#shared/types/api'
 import { CHECK_LABELS } from '#shared/utils/mask'
+import type { Verdict } from '#shared/utils/verdict'
 
 /** What the bench shows for one recording: the verdict once judged, otherwise where it stands. */
-export type BenchState = 'pass' | 'fail' | 'unjudged' | 'rejected' | 'failed' | 'pending'
+export type BenchState = Verdict | 'unjudged' | 'rejected' | 'failed' | 'pending'
 
 export function benchStateOf(r: Pick<RecordingSummary, 'status' | 'verdict'>): BenchState {
   if (r.status === 'rejected') return 'rejected'

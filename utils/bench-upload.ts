@@ -1,4 +1,5 @@
 import type { ApiErrorBody, UploadAccepted } from '#shared/types/api'
+import { codeForStatus, isErrorCode } from '#shared/utils/error-codes'
 
 export interface BenchUploadRequest {
   serial: string
@@ -59,10 +60,10 @@ export function uploadRecording(req: BenchUploadRequest, onProgress: (fraction: 
         onProgress(1)
         resolve(body)
       } else if (isApiErrorBody(body)) {
-        reject(new UploadError({ statusCode: xhr.status, message: body.message, data: { code: body.data?.code ?? 'error' } }))
+        reject(new UploadError({ statusCode: xhr.status, message: body.message, data: { code: isErrorCode(body.data?.code) ? body.data!.code : codeForStatus(xhr.status) } }))
       } else {
         const message = xhr.status === 413 ? 'The file is too large for an upload.' : `The server answered ${xhr.status}. Try again.`
-        reject(new UploadError({ statusCode: xhr.status, message, data: { code: xhr.status === 413 ? 'too_large' : 'http_' + xhr.status } }))
+        reject(new UploadError({ statusCode: xhr.status, message, data: { code: codeForStatus(xhr.status) } }))
       }
     }
     // Network failure: apiErrorOf turns a plain Error into "the server could not be reached".
