@@ -1,5 +1,3 @@
-import type { AuditPage } from '#shared/types/people'
-
 export interface AuditFilter {
   /** datetime-local values (the browser's time zone). */
   from: string
@@ -27,7 +25,7 @@ export function useAuditLog(pageSize = 50) {
     page: page.value,
     pageSize,
   }))
-  const result = useFetch<AuditPage>('/api/audit', { key: 'audit', query, watch: [query] })
+  const result = useFetch('/api/audit', { key: 'audit', query, watch: [query] })
   const pages = computed(() => Math.max(1, Math.ceil((result.data.value?.total ?? 0) / pageSize)))
 
   function apply(f: AuditFilter) {

@@ -1,8 +1,6 @@
-import type { LikelyCause } from '#shared/types/reports'
-
 /** The likely-causes table (trade knowledge, editable by engineers). */
 export function useCauses() {
-  return useFetch<LikelyCause[]>('/api/causes', { key: 'causes', default: () => [] })
+  return useFetch('/api/causes', { key: 'causes', default: () => [] })
 }
 
 /** Saves one failure class's causes, then refreshes the table. */

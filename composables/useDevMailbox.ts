@@ -1,8 +1,8 @@
-import type { MailboxList, MailboxMessage } from '#shared/types/mail'
+import type { MailboxMessage } from '#shared/types/mail'
 
 /** The local mail sink's messages (dev only, admins). */
 export function useDevMailbox() {
-  return useFetch<MailboxList>('/api/dev/mailbox', { key: 'dev-mailbox' })
+  return useFetch('/api/dev/mailbox', { key: 'dev-mailbox' })
 }
 
 /** One message of the local mailbox, fetched when `id` is set. */

@@ -1,4 +1,4 @@
-import type { MaskCandidate, RecordingCurves } from '#shared/types/api'
+import type { RecordingCurves } from '#shared/types/api'
 
 /** Candidates listed for picking: the API's maximum, so pasted serials of older units are found too. */
 const CANDIDATE_LIMIT = 2000
@@ -9,7 +9,7 @@ const CANDIDATE_LIMIT = 2000
  */
 export function useMaskCandidates(product: Ref<string | null>) {
   const query = computed(() => ({ product: product.value ?? undefined, limit: CANDIDATE_LIMIT }))
-  const res = useFetch<MaskCandidate[]>('/api/masks/candidates', {
+  const res = useFetch('/api/masks/candidates', {
     key: 'mask-candidates',
     query,
     default: () => [],

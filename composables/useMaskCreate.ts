@@ -1,4 +1,3 @@
-import type { MaskView } from '#shared/types/api'
 import { maskCreateSchema } from '#shared/utils/mask'
 
 /** The proposal settings as the form holds them: an empty field means "the default". */
@@ -58,7 +57,7 @@ export function useMaskCreate() {
       return
     }
     await run(async () => {
-      const mask = await $fetch<MaskView>('/api/masks', { method: 'POST', body: parsed.data })
+      const mask = await $fetch('/api/masks', { method: 'POST', body: parsed.data })
       await refreshNuxtData('masks')
       await navigateTo(`/masks/${mask.id}`)
     })

@@ -2,12 +2,12 @@ import type { MaskSummary, ProductView } from '#shared/types/api'
 
 /** Every mask version of every product, newest first, for the masks overview. */
 export function useMaskList() {
-  return useFetch<MaskSummary[]>('/api/masks', { key: 'masks', default: () => [] })
+  return useFetch('/api/masks', { key: 'masks', default: () => [] })
 }
 
 /** The products an engineer can build masks for. */
 export function useMaskProducts() {
-  return useFetch<ProductView[]>('/api/products', { key: 'mask-products', default: () => [] })
+  return useFetch('/api/products', { key: 'mask-products', default: () => [] })
 }
 
 /** Mask versions grouped under their product, products in code order, versions newest first. */

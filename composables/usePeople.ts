@@ -2,11 +2,11 @@ import type { InvitationCreated, InvitationView, PersonView } from '#shared/type
 import type { InviteInput, PersonPatch } from '#shared/utils/people'
 
 export function usePeople() {
-  return useFetch<PersonView[]>('/api/people', { key: 'people', default: () => [] })
+  return useFetch('/api/people', { key: 'people', default: () => [] })
 }
 
 export function useInvitations() {
-  return useFetch<InvitationView[]>('/api/invitations', { key: 'invitations', default: () => [] })
+  return useFetch('/api/invitations', { key: 'invitations', default: () => [] })
 }
 
 /** The admin's changes on the People page: invite, withdraw, new role, (de)activate. */
@@ -29,6 +29,7 @@ export function usePeopleAdmin() {
     busy,
     created,
     invite: async (input: InviteInput) => {
+      // Typed by hand: inferring the route's type through run() exceeds TypeScript's depth limit.
       const out = await run(() => $fetch<InvitationCreated>('/api/invitations', { method: 'POST', body: input }))
       if (out) created.value = out
       return Boolean(out)

@@ -1,4 +1,4 @@
-import type { ReturnCategoryView, ReturnSummary, ReturnView } from '#shared/types/returns'
+import type { ReturnView } from '#shared/types/returns'
 import type { ReturnCreateInput } from '#shared/utils/returns'
 
 export type ReturnListFilter = 'open' | 'closed' | 'all'
@@ -6,7 +6,7 @@ export type ReturnListFilter = 'open' | 'closed' | 'all'
 /** The returns desk's list, by status (one cache entry per filter). */
 export function useReturnList(status: Ref<ReturnListFilter>, serial?: Ref<string>) {
   const query = computed(() => ({ status: status.value, ...(serial?.value ? { serial: serial.value } : {}) }))
-  return useFetch<ReturnSummary[]>('/api/returns', {
+  return useFetch('/api/returns', {
     query,
     key: computed(() => `returns:${status.value}:${serial?.value ?? ''}`),
     default: () => [],
@@ -15,7 +15,7 @@ export function useReturnList(status: Ref<ReturnListFilter>, serial?: Ref<string
 
 /** Complaint categories: the active ones for the register form, every one for the admins' editor. */
 export function useReturnCategories(all = false) {
-  return useFetch<ReturnCategoryView[]>('/api/return-categories', { query: all ? { all: '1' } : {}, key: `return-categories:${all ? 'all' : 'active'}`, default: () => [] })
+  return useFetch('/api/return-categories', { query: all ? { all: '1' } : {}, key: `return-categories:${all ? 'all' : 'active'}`, default: () => [] })
 }
 
 /** Registers a return; the server's message comes back as the error when it refuses. */
@@ -25,7 +25,7 @@ export function useReturnRegister() {
   async function register(input: ReturnCreateInput): Promise<ReturnView | null> {
     let created: ReturnView | null = null
     await run(async () => {
-      created = await $fetch<ReturnView>('/api/returns', { method: 'POST', body: input })
+      created = await $fetch('/api/returns', { method: 'POST', body: input })
     })
     return created
   }

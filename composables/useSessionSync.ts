@@ -1,4 +1,3 @@
-import type { MeResponse } from '#shared/types/api'
 import { NAV_ITEMS } from '#shared/utils/navigation'
 import { ROLE_LABELS, roleAllows, type Role } from '#shared/utils/roles'
 
@@ -35,7 +34,7 @@ export async function syncSession(): Promise<boolean> {
   const nuxtApp = useNuxtApp()
   const { session, clear } = useUserSession()
   try {
-    const me = await useRequestFetch()<MeResponse>(ME_URL)
+    const me = await useRequestFetch()(ME_URL)
     if (session.value) session.value = { ...session.value, user: me.user }
     return true
   } catch (err) {

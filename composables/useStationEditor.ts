@@ -1,38 +1,26 @@
-import type { StationView } from '#shared/types/api'
+import type { StationToken, StationView } from '#shared/types/api'
+import { DEFAULT_PROFILE, type StationProfile } from '#shared/utils/station-profile'
 import type { ProfileDraft } from '../components/station/StationProfileForm.vue'
-
-const DEFAULT_DRAFT: ProfileDraft = {
-  channels: 'mic, drive, sense',
-  fullScaleV: '1, 20, 2',
-  micSensitivityVPerPa: 0.02,
-  micDistanceM: 0.1,
-  senseResistorOhm: 1,
-  f1Hz: 20,
-  f2Hz: 20000,
-  durationS: 1,
-  preSilenceS: 0.05,
-  levelVrms: 2,
-}
 
 const list = (s: string) => s.split(/[,\s]+/).filter(Boolean)
 
-export function draftOf(profile?: StationView['profile']): ProfileDraft {
-  if (!profile) return { ...DEFAULT_DRAFT }
-  const p = profile as { channels: string[]; fullScaleV: number[]; sweep: Record<string, number> } & Record<string, number>
+/** The form's text and numbers for a profile; a new station starts from the engine's defaults. */
+export function draftOf(p: StationProfile = DEFAULT_PROFILE): ProfileDraft {
   return {
     channels: p.channels.join(', '),
     fullScaleV: p.fullScaleV.join(', '),
-    micSensitivityVPerPa: p.micSensitivityVPerPa!,
-    micDistanceM: p.micDistanceM!,
-    senseResistorOhm: p.senseResistorOhm!,
-    f1Hz: p.sweep.f1Hz!,
-    f2Hz: p.sweep.f2Hz!,
-    durationS: p.sweep.durationS!,
-    preSilenceS: p.sweep.preSilenceS!,
-    levelVrms: p.sweep.levelVrms!,
+    micSensitivityVPerPa: p.micSensitivityVPerPa,
+    micDistanceM: p.micDistanceM,
+    senseResistorOhm: p.senseResistorOhm,
+    f1Hz: p.sweep.f1Hz,
+    f2Hz: p.sweep.f2Hz,
+    durationS: p.sweep.durationS,
+    preSilenceS: p.sweep.preSilenceS,
+    levelVrms: p.sweep.levelVrms,
   }
 }
 
+/** The profile a draft describes, as typed: the server checks it with stationProfileSchema and names each refusal. */
 export function profileOf(d: ProfileDraft) {
   return {
     channels: list(d.channels),
@@ -41,7 +29,7 @@ export function profileOf(d: ProfileDraft) {
     micDistanceM: d.micDistanceM,
     senseResistorOhm: d.senseResistorOhm,
     sweep: { f1Hz: d.f1Hz, f2Hz: d.f2Hz, durationS: d.durationS, preSilenceS: d.preSilenceS, levelVrms: d.levelVrms },
-  }
+  } satisfies Record<keyof StationProfile, unknown>
 }
 
 /** Create, edit (a new profile version) and token rotation for the Stations page. */
@@ -60,7 +48,7 @@ export function useStationEditor() {
 
   const create = (name: string, line: string, draft: ProfileDraft) =>
     run(async () => {
-      const r = await $fetch<{ id: number; token: string }>('/api/stations', { method: 'POST', body: { name, line, profile: profileOf(draft) } })
+      const r = await $fetch('/api/stations', { method: 'POST', body: { name, line, profile: profileOf(draft) } })
       issued.value = { name, token: r.token }
       return r
     })
@@ -72,9 +60,9 @@ export function useStationEditor() {
   const rotate = (s: StationView) =>
     run(async () => {
       const url: string = `/api/stations/${s.id}/token`
-      const r = await $fetch<{ token: string }>(url, { method: 'POST' })
+      const r = await $fetch<StationToken>(url, { method: 'POST' })
       issued.value = { name: s.name, token: r.token }
     })
 
-  return { error, busy, issued, create, save, rotate, newDraft: () => ({ ...DEFAULT_DRAFT }) }
+  return { error, busy, issued, create, save, rotate, newDraft: () => draftOf() }
 }

@@ -1,5 +1,3 @@
-import type { StationView } from '#shared/types/api'
-
 export function useStations() {
-  return useFetch<StationView[]>('/api/stations', { key: 'stations', default: () => [] })
+  return useFetch('/api/stations', { key: 'stations', default: () => [] })
 }

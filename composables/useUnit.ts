@@ -1,5 +1,5 @@
-import type { RecordingView, UnitView } from '#shared/types/api'
-import type { CertificateSent, UnitTest } from '#shared/types/units'
+import type { RecordingView } from '#shared/types/api'
+import type { CertificateSent, UnitTest, UnitView } from '#shared/types/units'
 
 /** One unit's factory record (key per serial so two units never share a cache entry). */
 export function useUnit(serial: Ref<string>) {

@@ -9,6 +9,7 @@ export function useUnitSearch(q: Ref<string>) {
   const fetcher = useRequestFetch()
   return useAsyncData<UnitSearchAnswer | null>(
     () => `unit-search:${q.value}`,
+    // Typed by hand: inferring the route's type inside useAsyncData exceeds TypeScript's depth limit.
     () => (q.value ? fetcher<UnitSearchAnswer>(SEARCH_URL, { query: { q: q.value } }) : Promise.resolve(null)),
     { watch: [q] },
   )
@@ -34,7 +35,7 @@ export function useUnitLookup() {
       return false
     }
     return run(async () => {
-      const answer = await $fetch<UnitSearchAnswer>(SEARCH_URL, { query: { q } })
+      const answer = await $fetch(SEARCH_URL, { query: { q } })
       const only = answer.units.length === 1 ? answer.units[0] : undefined
       await navigateTo(only ? unitPath(only.serial) : { path: '/units', query: { q: answer.query } })
     })

@@ -10,7 +10,7 @@ export {
   type ChannelRole,
   type StationProfile,
   type StationProfileInput,
-} from './profile.ts'
+} from '../../shared/utils/station-profile.ts'
 export { parseWavLayout, decodeChannel, MAX_RECORDING_BYTES, type WavLayout, type SampleEncoding } from './wav-reader.ts'
 export {
   validateRecording,

@@ -1,4 +1,4 @@
-import type { StationProfile } from './profile.ts'
+import type { StationProfile } from '../../shared/utils/station-profile.ts'
 
 /**
  * Exponential sine sweep (Farina, AES preprint 5093, 2000):

@@ -5,7 +5,8 @@
  * mask band, and when and by what it was issued. Text is cut to fit, so the page never overflows.
  */
 import PDFDocument from 'pdfkit'
-import type { RecordingCurves, RecordingView, UnitView } from '../../shared/types/api.ts'
+import type { RecordingCurves, RecordingView } from '../../shared/types/api.ts'
+import type { UnitView } from '../../shared/types/units.ts'
 import { limitAtHz } from '../../shared/utils/mask.ts'
 import { parameterRows } from '../../shared/utils/units.ts'
 import { toWinAnsi } from './pdf.ts'

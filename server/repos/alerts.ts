@@ -1,7 +1,7 @@
 import type { Knex } from 'knex'
 import type { AlertView } from '../../shared/types/reports'
 import { ALERT_DEFAULTS, type AlertingInput } from '../../shared/utils/alerts'
-import type { Verdict } from '../stats/index'
+import type { Verdict } from '../../shared/utils/verdict'
 
 export type AlertKind = AlertView['kind']
 

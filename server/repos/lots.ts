@@ -1,5 +1,6 @@
 import type { Knex } from 'knex'
 import type { LotSummary } from '../../shared/types/reports.ts'
+import type { Verdict } from '../../shared/utils/verdict.ts'
 
 export interface LotRow {
   id: number
@@ -36,7 +37,7 @@ export interface LotResultRow {
   serial: string
   resultId: number
   uploadedAt: Date
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
   /** The checks this result failed (value and bounds as judged). */
   failedChecks: { name: string; value: number | null; low: number | null; high: number | null }[]
   fsHz: number | null

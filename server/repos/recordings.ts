@@ -1,6 +1,7 @@
 import type { Knex } from 'knex'
 import type { RecordingStatus } from '../../shared/utils/recordings.ts'
 import type { CurveLimit, RecordingCurves, RecordingSummary, RecordingView } from '../../shared/types/api.ts'
+import type { Verdict } from '../../shared/utils/verdict.ts'
 
 export interface RecordingRow {
   id: string
@@ -144,7 +145,7 @@ interface SummaryRow {
   lot_code: string | null
   station_name: string | null
   result_id: string | null
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
   checks: { checks: RecordingView['checks']; unmeasured: string[] } | null
   mask_version: number | null
 }

@@ -17,6 +17,7 @@ import {
   type RuleSignal,
   type UnitHistory,
 } from '../stats/index.ts'
+import type { Verdict } from '../../shared/utils/verdict.ts'
 
 /** Golden units a mask needs before its golden values set the control limits (fewer: the lot's own first in-control stretch). Our choice. */
 export const MIN_GOLDEN_FOR_BASELINE = 5
@@ -237,8 +238,8 @@ export interface LotUnitRow {
   firstTestAt: string
   lastTestAt: string
   tests: number
-  firstVerdict: 'pass' | 'fail' | null
-  finalVerdict: 'pass' | 'fail' | null
+  firstVerdict: Verdict | null
+  finalVerdict: Verdict | null
   /** Checks the final (latest judged, else latest) result failed. */
   failedChecks: string[]
   /** Figures of the latest production result. */

@@ -1,12 +1,15 @@
 import type { Role } from '../utils/roles'
+import type { ErrorCode } from '../utils/error-codes'
 import type { Coil } from '../utils/coil'
-import type { UnitTest } from './units'
+import type { RecordingStatus } from '../utils/recordings'
+import type { StationProfile } from '../utils/station-profile'
+import type { Verdict } from '../utils/verdict'
 
-/** The body of every error answer: h3's shape with a machine code in data.code. */
+/** Every error answer (server/utils/errors.ts, errorAnswer); `code` is from shared/utils/error-codes.ts. */
 export interface ApiErrorBody {
   statusCode: number
   message: string
-  data: { code: string; issues?: { path: string; message: string }[] }
+  data: { code: ErrorCode; issues?: { path: string; message: string }[]; requestId?: string }
 }
 
 export interface HealthResponse {
@@ -48,7 +51,7 @@ export interface CheckView {
 /** POST /api/recordings: 202 for a new upload, 200 for the same file again. */
 export interface UploadAccepted {
   id: number
-  status: 'queued' | 'analysing' | 'done' | 'rejected' | 'failed'
+  status: RecordingStatus
   duplicate: boolean
 }
 
@@ -60,8 +63,8 @@ export interface RecordingSummary {
   stationId: number | null
   stationName: string | null
   kind: 'sweep' | 'impedance_table'
-  status: 'queued' | 'analysing' | 'done' | 'rejected' | 'failed'
-  verdict: 'pass' | 'fail' | null
+  status: RecordingStatus
+  verdict: Verdict | null
   failedChecks: string[]
   uploadedAt: string
   finishedAt: string | null
@@ -141,25 +144,9 @@ export interface StationView {
   tokenHint: string
   profileId: number
   profileVersion: number
-  profile: Record<string, unknown>
+  profile: StationProfile
   /** When the station last uploaded a recording (null: never). */
   lastUploadAt: string | null
-}
-
-/** GET /api/units/:serial: the unit's factory record. */
-export interface UnitView {
-  serial: string
-  product: ProductView
-  lot: { code: string } | null
-  /** The verdict of the latest finished production (non-return) test. */
-  verdict: 'pass' | 'fail' | null
-  /** Every test newest first, return tests included (marked `returnTest`). */
-  recordings: UnitTest[]
-  /** The latest finished production test: the one a test certificate states. */
-  latestProductionId: number | null
-  registeredAt: string
-  /** What the product's current mask says of each result, beside its historic verdict (null without a released mask). */
-  currentMask: { version: number; results: { recordingId: number; verdict: 'pass' | 'fail'; failedChecks: string[] }[] } | null
 }
 
 export interface MaskSummary {
@@ -215,7 +202,7 @@ export interface MaskCandidate {
   serial: string
   recordingId: number
   kind: 'sweep' | 'impedance_table'
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
   uploadedAt: string
   re20Ohm: number | null
   fsHz: number | null
@@ -229,7 +216,7 @@ export interface MaskPreview {
   draft: { pass: number; fail: number; yieldPct: number | null }
   active: { maskId: number; version: number; pass: number; fail: number; yieldPct: number | null } | null
   /** Units whose verdict would change, newest first (at most 500 listed). */
-  changed: { serial: string; recordingId: number; from: 'pass' | 'fail' | null; to: 'pass' | 'fail'; checks: string[] }[]
+  changed: { serial: string; recordingId: number; from: Verdict | null; to: Verdict; checks: string[] }[]
   changedTotal: number
   /** Per check: results it would newly fail and newly pass. */
   byCheck: { check: string; newFails: number; newPasses: number }[]

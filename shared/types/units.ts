@@ -1,4 +1,5 @@
-import type { RecordingView } from './api'
+import type { ProductView, RecordingView } from './api'
+import type { Verdict } from '../utils/verdict'
 
 /** One unit in the search answer: enough to tell it apart without opening it. */
 export interface UnitHit {
@@ -11,7 +12,7 @@ export interface UnitHit {
   /** Recordings of the unit, return tests included. */
   tests: number
   /** The verdict of its latest finished production (non-return) test. */
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
 }
 
 /**
@@ -43,6 +44,22 @@ export interface UnitTest extends RecordingView {
   profileVersion: number | null
   ambientC: number | null
   note: string | null
+}
+
+/** GET /api/units/:serial: the unit's factory record. */
+export interface UnitView {
+  serial: string
+  product: ProductView
+  lot: { code: string } | null
+  /** The verdict of the latest finished production (non-return) test. */
+  verdict: Verdict | null
+  /** Every test newest first, return tests included (marked `returnTest`). */
+  recordings: UnitTest[]
+  /** The latest finished production test: the one a test certificate states. */
+  latestProductionId: number | null
+  registeredAt: string
+  /** What the product's current mask says of each result, beside its historic verdict (null without a released mask). */
+  currentMask: { version: number; results: { recordingId: number; verdict: Verdict; failedChecks: string[] }[] } | null
 }
 
 /** POST /api/units/:serial/certificate/send answer. */

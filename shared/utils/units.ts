@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import type { Verdict } from './verdict'
 
 /** Shortest text the unit search takes (one character would list a whole factory). */
 export const SEARCH_MIN_CHARS = 2
@@ -152,7 +153,7 @@ export interface ParameterRow {
   low: string
   high: string
   /** The check's outcome; null when the mask does not judge this figure. */
-  outcome: 'pass' | 'fail' | null
+  outcome: Verdict | null
 }
 
 /** One test's figures beside the limits of the mask that judged it (the unit page and the certificate show the same rows). */

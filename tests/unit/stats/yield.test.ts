@@ -1,10 +1,10 @@
 import { describe, expect, it } from 'vitest'
-import { UNNAMED_CHECK, computeYield, failurePareto, type UnitHistory, type UnitTest } from '../../../server/stats/index.ts'
+import { UNNAMED_CHECK, computeYield, failurePareto, type ProductionResult, type UnitHistory } from '../../../server/stats/index.ts'
 
-const pass: UnitTest = { verdict: 'pass', failedChecks: [] }
-const unjudged: UnitTest = { verdict: null, failedChecks: [] }
-const fail = (...checks: string[]): UnitTest => ({ verdict: 'fail', failedChecks: checks })
-const unit = (serial: string, ...tests: UnitTest[]): UnitHistory => ({ serial, tests })
+const pass: ProductionResult = { verdict: 'pass', failedChecks: [] }
+const unjudged: ProductionResult = { verdict: null, failedChecks: [] }
+const fail = (...checks: string[]): ProductionResult => ({ verdict: 'fail', failedChecks: checks })
+const unit = (serial: string, ...tests: ProductionResult[]): UnitHistory => ({ serial, tests })
 
 // A hand-made lot; each unit's story and what it counts towards (definitions in server/stats/yield.ts):
 //   A: pass                      first judged, first pass, final pass
