@@ -1,6 +1,9 @@
+import { DomainError } from '../../shared/utils/domain-error'
+import type { ErrorCode } from '../../shared/utils/error-codes'
+
 /**
- * Typed input errors of the measurement engine. Each carries a stable machine code
- * (mapped to HTTP by the server's error mapper) and a readable message.
+ * Typed input errors of the measurement engine. Each carries a stable machine code from the one
+ * error table (shared/utils/error-codes.ts) and a readable message.
  */
 export const ANALYSIS_ERROR_CODES = [
   'empty_file',
@@ -20,21 +23,18 @@ export const ANALYSIS_ERROR_CODES = [
   'table_not_increasing',
   'table_negative_magnitude',
   'table_unparsable',
-] as const
+] as const satisfies readonly ErrorCode[]
 
 export type AnalysisErrorCode = (typeof ANALYSIS_ERROR_CODES)[number]
 
-export class AnalysisInputError extends Error {
-  readonly code: AnalysisErrorCode
+export class AnalysisInputError extends DomainError<AnalysisErrorCode> {
   /** 1-based line number for impedance-table errors. */
   readonly line: number | undefined
   /** Channel index (0-based, file order) for channel-specific errors. */
   readonly channel: number | undefined
 
   constructor(code: AnalysisErrorCode, message: string, detail: { line?: number; channel?: number } = {}) {
-    super(message)
-    this.name = 'AnalysisInputError'
-    this.code = code
+    super(code, message)
     this.line = detail.line
     this.channel = detail.channel
   }

@@ -1,18 +1,15 @@
 /** E-mailing a unit's test certificate: the PDF of server/reports/certificate.ts attached to a short message. */
-import type { Knex } from 'knex'
 import type { CertificateSent } from '../../shared/types/units'
 import type { SendCertificateInput } from '../../shared/utils/units'
-import { writeAudit } from '../repos/audit'
-import { renderCertificatePdf } from '../reports/certificate'
-import { certificateFilename, getCertificateData } from '../services/units'
+import { renderCertificatePdf, type CertificateData } from '../reports/certificate'
+import { certificateFilename } from '../services/units'
 import { sendMail } from './index'
 
 /**
- * Renders the unit's certificate, mails it, and records the export (who, to whom) in the audit log.
- * @throws CertificateError (unknown serial, nothing to certify), MailNotConfigured, or the SMTP server's refusal.
+ * Renders the unit's certificate and mails it (the service that calls it audits the export).
+ * @throws CertificateError (unknown serial, nothing to certify), MailError (`mail_not_configured`, `mail_failed`).
  */
-export async function sendCertificate(db: Knex, serial: string, input: SendCertificateInput, by: { id: number; displayName: string; email: string }): Promise<CertificateSent> {
-  const data = await getCertificateData(db, serial)
+export async function mailCertificate(data: CertificateData, input: SendCertificateInput, by: { displayName: string; email: string }): Promise<CertificateSent> {
   const pdf = await renderCertificatePdf(data)
   const { unit, test } = data
   const filename = certificateFilename(unit.serial)
@@ -29,13 +26,6 @@ export async function sendCertificate(db: Knex, serial: string, input: SendCerti
     subject: `Test certificate ${unit.serial} (${unit.product.code})`,
     text,
     attachments: [{ filename, content: pdf, contentType: 'application/pdf' }],
-  })
-  await writeAudit(db, {
-    userId: by.id,
-    action: 'certificate.send',
-    entity: 'unit',
-    entityId: unit.serial,
-    detail: { recordingId: test.id, verdict: test.verdict, maskVersion: test.maskVersion, to: input.to, messageId: info.messageId },
   })
   return { serial: unit.serial, recipients: input.to, accepted: info.accepted, messageId: info.messageId, attachment: filename }
 }

@@ -2,8 +2,10 @@
  * Outgoing mail through nodemailer over SMTP. Settings come from the environment (README,
  * "Configuration"): SMTP_URL, or SMTP_HOST / SMTP_PORT / SMTP_USER / SMTP_PASSWORD / SMTP_SECURE;
  * MAIL_FROM for the sender. Without them, mail goes to the local sink when one is running for this
- * data directory (`npm start` and the tests run it); otherwise sending fails with MailNotConfigured.
+ * data directory (`npm start` and the tests run it); otherwise sending fails with MailError `mail_not_configured`.
  */
+import { DomainError } from '../../shared/utils/domain-error'
+import type { ErrorCode } from '../../shared/utils/error-codes'
 import { readFileSync } from 'node:fs'
 import { join } from 'node:path'
 import nodemailer, { type Transporter } from 'nodemailer'
@@ -13,12 +15,9 @@ import { SINK_FILE } from './files'
 
 export const DEFAULT_MAIL_FROM = 'Conetrail <conetrail@localhost>'
 
-export class MailNotConfigured extends Error {
-  readonly code = 'mail_not_configured'
-  constructor() {
-    super('No SMTP server is configured (SMTP_URL or SMTP_HOST) and no local mail sink is running')
-  }
-}
+export const MAIL_ERROR_CODES = ['mail_not_configured', 'mail_failed'] as const satisfies readonly ErrorCode[]
+/** Mail cannot go out: no server configured, or the server refused the message. */
+export class MailError extends DomainError<(typeof MAIL_ERROR_CODES)[number]> {}
 
 export interface OutgoingMail {
   to: string | string[]
@@ -94,7 +93,7 @@ let cached: { key: string; transporter: Transporter } | undefined
 
 function transporter(): Transporter {
   const opts = transportOptions()
-  if (!opts) throw new MailNotConfigured()
+  if (!opts) throw new MailError('mail_not_configured', 'No SMTP server is configured (SMTP_URL or SMTP_HOST) and no local mail sink is running')
   const key = JSON.stringify(opts)
   if (cached?.key !== key) {
     cached?.transporter.close()
@@ -105,16 +104,23 @@ function transporter(): Transporter {
 
 /**
  * Sends one message from MAIL_FROM.
- * @throws MailNotConfigured when there is no SMTP server; the SMTP error when the server refuses.
+ * @throws MailError `mail_not_configured` when there is no SMTP server, `mail_failed` (with the
+ * server's words) when the server cannot be reached or refuses the message.
  */
 export async function sendMail(mail: OutgoingMail): Promise<{ messageId: string; accepted: string[] }> {
-  const info = (await transporter().sendMail({
-    from: process.env.MAIL_FROM?.trim() || DEFAULT_MAIL_FROM,
-    to: mail.to,
-    subject: mail.subject,
-    text: mail.text,
-    html: mail.html,
-    attachments: mail.attachments,
-  })) as SMTPTransport.SentMessageInfo
+  const smtp = transporter()
+  let info: SMTPTransport.SentMessageInfo
+  try {
+    info = (await smtp.sendMail({
+      from: process.env.MAIL_FROM?.trim() || DEFAULT_MAIL_FROM,
+      to: mail.to,
+      subject: mail.subject,
+      text: mail.text,
+      html: mail.html,
+      attachments: mail.attachments,
+    })) as SMTPTransport.SentMessageInfo
+  } catch (err) {
+    throw new MailError('mail_failed', `The mail server refused the message: ${err instanceof Error ? err.message : String(err)}`)
+  }
   return { messageId: info.messageId, accepted: (info.accepted as (string | { address: string })[]).map((a) => (typeof a === 'string' ? a : a.address)) }
 }

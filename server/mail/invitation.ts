@@ -12,7 +12,7 @@ export interface InvitationMail {
 
 /**
  * Sends the link to the invited address.
- * @throws MailNotConfigured, or the SMTP server's refusal.
+ * @throws MailError (`mail_not_configured`, `mail_failed`).
  */
 export async function sendInvitationMail(m: InvitationMail): Promise<void> {
   const until = new Date(m.expiresAt).toUTCString()

@@ -1,4 +1,5 @@
 /** E-mailing a lot report: the PDF of server/reports/pdf.ts attached to a short message. */
+import { DomainError } from '../../shared/utils/domain-error'
 import type { Knex } from 'knex'
 import { renderLotReportPdf } from '../reports/pdf'
 import { getLotReport } from '../services/lot-report'
@@ -11,9 +12,9 @@ const pct = (x: number | null) => (x === null ? 'n/a' : `${Math.round(x * 1000) 
  * Renders the lot's report and mails it; undefined for an unknown lot.
  * @throws MailError (`mail_not_configured`, `mail_failed`).
  */
-export async function sendLotReport(db: Knex, lotCode: string, input: SendLotReportInput, by: { displayName: string; email: string }): Promise<LotReportSent | undefined> {
+export async function sendLotReport(db: Knex, lotCode: string, input: SendLotReportInput, by: { displayName: string; email: string }): Promise<LotReportSent> {
   const report = await getLotReport(db, lotCode)
-  if (!report) return undefined
+  if (!report) throw new DomainError('unknown_lot', `No lot ${lotCode}`)
   const pdf = await renderLotReportPdf(report)
   const s = report.summary
   const filename = `lot-${report.lot.code}.pdf`

@@ -1,3 +1,5 @@
+import { DomainError } from '../../shared/utils/domain-error'
+import type { ErrorCode } from '../../shared/utils/error-codes'
 import { createHash, randomBytes } from 'node:crypto'
 import type { Knex } from 'knex'
 import type { Role } from '../../shared/utils/roles'
@@ -5,18 +7,9 @@ import type { InvitationStatus, InvitationView } from '../../shared/types/people
 import { createUser, normaliseEmail } from './users'
 import { isUniqueViolation } from './pg-errors'
 
-/** Why an invitation cannot be used, with the HTTP status a route gives it. */
-export class InvitationError extends Error {
-  constructor(
-    readonly code: 'invitation_unknown' | 'invitation_used' | 'invitation_expired' | 'invitation_revoked' | 'email_taken',
-    message: string,
-  ) {
-    super(message)
-  }
-  get status(): number {
-    return { invitation_unknown: 404, email_taken: 409 }[this.code as string] ?? 410
-  }
-}
+export const INVITATION_ERROR_CODES = ['invitation_unknown', 'invitation_used', 'invitation_expired', 'invitation_revoked', 'email_taken'] as const satisfies readonly ErrorCode[]
+/** Why an invitation cannot be used. */
+export class InvitationError extends DomainError<(typeof INVITATION_ERROR_CODES)[number]> {}
 
 /** 256 random bits: a fast hash is enough, and only the hash is stored. */
 export function hashInvitationToken(token: string): string {

@@ -1,17 +1,12 @@
+import { DomainError } from '../../shared/utils/domain-error.ts'
+import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import type { Knex } from 'knex'
 import { maskLimitsSchema, type MaskLimits, type MaskLimitsInput, type MaskStatus } from '../../shared/utils/mask.ts'
 import type { MaskSummary } from '../../shared/types/api.ts'
-import { writeAudit } from './audit.ts'
 
 /** A change the mask's state does not allow (e.g. editing a released mask). */
-export class MaskStateError extends Error {
-  constructor(
-    readonly code: 'mask_not_draft' | 'mask_not_released' | 'mask_older_than_active' | 'unknown_mask',
-    message: string,
-  ) {
-    super(message)
-  }
-}
+export const MASK_STATE_ERROR_CODES = ['mask_not_draft', 'mask_not_released', 'mask_older_than_active', 'unknown_mask'] as const satisfies readonly ErrorCode[]
+export class MaskStateError extends DomainError<(typeof MASK_STATE_ERROR_CODES)[number]> {}
 
 export interface ActiveMask {
   id: number
@@ -161,16 +156,25 @@ export interface ReleaseOptions {
   comment: string
   /** When it was released; only the demo seed sets it, to lay out a believable history. */
   at?: Date
-  /** Called inside the release transaction, e.g. to judge the product's unjudged results. */
-  afterRelease?: (trx: Knex.Transaction, mask: ActiveMask, productId: number) => Promise<number>
+}
+
+export interface ReleasedMask {
+  version: number
+  productId: number
+  /** For the audit entry: the product's code and the mask this one replaced (null: none was active). */
+  productCode: string
+  replaced: number | null
+  /** The mask as it now judges the product, for the caller's work in the same transaction. */
+  mask: ActiveMask
 }
 
 /**
- * Releases a draft: it becomes the product's active mask, the previous one is retired, an audit
- * entry records who and why. Returns the version and how many unjudged results it judged.
+ * Releases a draft: it becomes the product's active mask, the previous one is retired (the caller
+ * audits who and why, with the product code and the replaced mask returned here). The product row stays locked until the transaction ends: pass a
+ * transaction to do more under that lock (judging the unjudged results is the service's work).
  * @throws MaskStateError `mask_not_draft`.
  */
-export async function releaseMask(db: Knex, maskId: number, o: ReleaseOptions): Promise<{ version: number; judgedUnjudged: number }> {
+export async function releaseMask(db: Knex, maskId: number, o: ReleaseOptions): Promise<ReleasedMask> {
   return db.transaction(async (trx) => {
     // Product row first, then masks: the same order as retire, so the two cannot deadlock.
     const product = await lockProductOfMask(trx, maskId)
@@ -188,16 +192,14 @@ export async function releaseMask(db: Knex, maskId: number, o: ReleaseOptions): 
     }
     await trx('masks').where({ id: maskId }).update({ status: 'released', released_at: at, released_by: o.by, release_comment: o.comment })
     await trx('products').where({ id: mask.product_id }).update({ active_mask_id: maskId, updated_at: trx.fn.now() })
-    await writeAudit(trx, { userId: o.by, action: 'mask.release', entity: 'mask', entityId: maskId, comment: o.comment, detail: { product: product.code, version: mask.version, replaced: product.active_mask_id ? Number(product.active_mask_id) : null } })
     const active = { id: maskId, version: mask.version, limits: maskLimitsSchema.parse(mask.limits) }
-    const judgedUnjudged = o.afterRelease ? await o.afterRelease(trx, active, Number(mask.product_id)) : 0
-    return { version: mask.version, judgedUnjudged }
+    return { version: mask.version, productId: Number(mask.product_id), productCode: product.code, replaced: product.active_mask_id ? Number(product.active_mask_id) : null, mask: active }
   })
 }
 
 /**
  * Retires a released mask: the product then has no active mask (new results stay unjudged until
- * another is released). @throws MaskStateError `mask_not_released`.
+ * another is released); the caller audits it. @throws MaskStateError `mask_not_released`.
  */
 export async function retireMask(db: Knex, maskId: number, by: number | null, comment: string | null): Promise<{ version: number }> {
   return db.transaction(async (trx) => {
@@ -206,7 +208,6 @@ export async function retireMask(db: Knex, maskId: number, by: number | null, co
     if (mask.status !== 'released') throw new MaskStateError('mask_not_released', `Only a released mask can be retired; v${mask.version} is ${mask.status}`)
     await trx('masks').where({ id: maskId }).update({ status: 'retired', retired_at: trx.fn.now(), retired_by: by, retire_comment: comment })
     await trx('products').where({ id: mask.product_id, active_mask_id: maskId }).update({ active_mask_id: null, updated_at: trx.fn.now() })
-    await writeAudit(trx, { userId: by, action: 'mask.retire', entity: 'mask', entityId: maskId, comment, detail: { version: mask.version } })
     return { version: mask.version }
   })
 }

@@ -1,3 +1,5 @@
+import { DomainError } from '../../shared/utils/domain-error.ts'
+import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import type { ProductView } from '../../shared/types/api.ts'
 import type { ProductListItem } from '../../shared/utils/product.ts'
 import { coilSchema, expectedRe20Ohm, DEFAULT_RE_WARN_PCT, type Coil } from '../../shared/utils/coil.ts'
@@ -21,16 +23,11 @@ export interface ProductRow {
 /** A product as the API shows it (shared type). */
 export type ProductSummary = ProductView
 
-/** Why a product write was refused; routes answer 409 with the code. */
-export class ProductConflict extends Error {
-  constructor(
-    readonly code: 'duplicate_product' | 'product_in_use',
-    message: string,
-    /** The input field the refusal is about (for the form). */
-    readonly field: 'code' | 'ratedImpedanceOhm' = 'code',
-  ) {
-    super(message)
-    this.name = 'ProductConflict'
+export const PRODUCT_CONFLICT_CODES = ['duplicate_product', 'product_in_use'] as const satisfies readonly ErrorCode[]
+/** Why a product write was refused; `field` (in the answer's data) is the input it is about, for the form. */
+export class ProductConflict extends DomainError<(typeof PRODUCT_CONFLICT_CODES)[number]> {
+  constructor(code: (typeof PRODUCT_CONFLICT_CODES)[number], message: string, field: 'code' | 'ratedImpedanceOhm' = 'code') {
+    super(code, message, { field })
   }
 }
 

@@ -1,9 +1,9 @@
+import { DomainError } from '../../shared/utils/domain-error.ts'
 import { createHash, randomBytes } from 'node:crypto'
 import type { Knex } from 'knex'
 import type { StationProfile } from '../analysis/index.ts'
 import type { StationView } from '../../shared/types/api.ts'
 import { isUniqueViolation } from './pg-errors.ts'
-import { writeAudit } from './audit.ts'
 
 /** A station as the API shows it, with its profile typed by the engine's schema. */
 export type StationSummary = Omit<StationView, 'profile'> & { profile: StationProfile }
@@ -89,26 +89,27 @@ export interface NewStation {
 }
 
 /**
- * Creates a station with version 1 of its profile. Returns its id and its token (shown once).
+ * Creates a station with version 1 of its profile. Returns its id, its token (shown once) and the
+ * token's hint (for the audit log).
  * @throws StationConflict for a name another station has.
  */
-export async function createStation(db: Knex, s: NewStation): Promise<{ id: number; token: string }> {
+export async function createStation(db: Knex, s: NewStation): Promise<{ id: number; token: string; tokenHint: string }> {
   const t = newStationToken()
   return guardName(s.name, () =>
     db.transaction(async (trx) => {
       const [row] = await trx('stations').insert({ name: s.name, line: s.line, token_hash: t.hash, token_hint: t.hint }).returning('id')
       await trx('station_profiles').insert({ station_id: row.id, version: 1, profile: JSON.stringify(s.profile), created_by: s.createdBy })
-      await writeAudit(trx, { userId: s.createdBy, action: 'station.token_issue', entity: 'station', entityId: row.id, subject: s.name, ip: s.ip, detail: { tokenHint: t.hint } })
-      return { id: Number(row.id), token: t.token }
+      return { id: Number(row.id), token: t.token, tokenHint: t.hint }
     }),
   )
 }
 
 /** Another station already has this name. */
-export class StationConflict extends Error {
-  readonly code = 'duplicate_station'
+export class StationConflict extends DomainError<'duplicate_station'> {
+  constructor(message: string) {
+    super('duplicate_station', message)
+  }
 }
-
 
 async function guardName<T>(name: string | undefined, work: () => Promise<T>): Promise<T> {
   try {
@@ -154,15 +155,14 @@ export async function updateStation(db: Knex, id: number, patch: StationPatch, b
   )
 }
 
-/** Replaces the station's token; the old one stops working at once (only the new hash is kept). */
-export async function rotateStationToken(db: Knex, id: number, by: { userId: number | null; ip?: string | null } = { userId: null }): Promise<string | undefined> {
+/**
+ * Replaces the station's token; the old one stops working at once (only the new hash is kept).
+ * Returns the new token, its hint and the station's name; undefined for an unknown station.
+ */
+export async function rotateStationToken(db: Knex, id: number): Promise<{ token: string; tokenHint: string; name: string } | undefined> {
   const t = newStationToken()
-  return db.transaction(async (trx) => {
-    const [row] = await trx('stations').where({ id }).update({ token_hash: t.hash, token_hint: t.hint, updated_at: trx.fn.now() }).returning(['name', 'token_hint'])
-    if (!row) return undefined
-    await writeAudit(trx, { userId: by.userId, action: 'station.token_rotate', entity: 'station', entityId: id, subject: row.name, ip: by.ip, detail: { tokenHint: t.hint } })
-    return t.token
-  })
+  const [row] = await db('stations').where({ id }).update({ token_hash: t.hash, token_hint: t.hint, updated_at: db.fn.now() }).returning(['name'])
+  return row ? { token: t.token, tokenHint: t.hint, name: row.name } : undefined
 }
 
 /** The station profiles the given recordings were analysed with. */

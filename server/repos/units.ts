@@ -1,5 +1,8 @@
+import { DomainError } from '../../shared/utils/domain-error.ts'
+import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import type { Knex } from 'knex'
 import type { UnitHit } from '../../shared/types/units.ts'
+import type { Verdict } from '../../shared/utils/verdict.ts'
 
 export interface UnitRow {
   id: string
@@ -9,14 +12,8 @@ export interface UnitRow {
   created_at: Date
 }
 
-export class UnitInputError extends Error {
-  constructor(
-    readonly code: 'unknown_serial' | 'unknown_product' | 'lot_product_mismatch' | 'unit_product_mismatch',
-    message: string,
-  ) {
-    super(message)
-  }
-}
+export const UNIT_INPUT_ERROR_CODES = ['unknown_serial', 'unknown_product', 'lot_product_mismatch', 'unit_product_mismatch'] as const satisfies readonly ErrorCode[]
+export class UnitInputError extends DomainError<(typeof UNIT_INPUT_ERROR_CODES)[number]> {}
 
 export async function getUnitBySerial(db: Knex, serial: string): Promise<UnitRow | undefined> {
   return db<UnitRow>('units').where({ serial }).first()
@@ -148,7 +145,7 @@ interface HitRow {
   lot_code: string | null
   last_tested_at: Date | null
   tests: string
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
 }
 
 /**

@@ -1,3 +1,5 @@
+import { DomainError } from '../../shared/utils/domain-error.ts'
+import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import { createHash } from 'node:crypto'
 import { readFile, rm } from 'node:fs/promises'
 import type { Knex } from 'knex'
@@ -8,19 +10,13 @@ import { findRecordingByContent, findRecordingOfOtherUnit, insertRecording } fro
 import { getReturnRow } from '../repos/returns.ts'
 import { getUnitBySerial, resolveUnit } from '../repos/units.ts'
 import { newStorageKey, type RecordingStorage } from '../storage/recordings.ts'
-import type { UploadFields } from '../../shared/utils/bench.ts'
+import type { UploadFields } from '../../shared/utils/recordings.ts'
 import { isUniqueViolation } from '../repos/pg-errors.ts'
 
-/** Why an upload was refused before anything was stored; `status` is the HTTP status to answer. */
-export class UploadRefused extends Error {
-  constructor(
-    readonly status: number,
-    readonly code: string,
-    message: string,
-  ) {
-    super(message)
-  }
-}
+export const UPLOAD_REFUSAL_CODES = ['unsupported_file', 'station_required', 'unknown_return', 'return_closed', 'wrong_unit', 'already_uploaded', 'same_recording_other_unit'] as const satisfies readonly ErrorCode[]
+
+/** Why an upload was refused before anything was stored (the engine's refusals are AnalysisInputError). */
+export class UploadRefused extends DomainError<(typeof UPLOAD_REFUSAL_CODES)[number]> {}
 
 export interface UploadSource {
   tempPath: string
@@ -50,27 +46,20 @@ export function kindOf(bytes: Buffer): 'sweep' | 'impedance_table' {
   if (bytes.length >= 4 && bytes.subarray(0, 4).equals(RIFF)) return 'sweep'
   const head = bytes.subarray(0, 4096)
   if (head.includes(0)) {
-    throw new UploadRefused(415, 'unsupported_file', 'The file is neither a WAVE recording nor a text impedance table')
+    throw new UploadRefused('unsupported_file', 'The file is neither a WAVE recording nor a text impedance table')
   }
   if (bytes.length >= 12 && bytes.subarray(8, 12).equals(WAVE)) return 'sweep'
   return 'impedance_table'
 }
 
-const STATUS_OF_CODE: Record<string, number> = { empty_file: 400, not_wave: 415, unsupported_encoding: 415 }
-
 /** Engine validation of the bytes, before anything is stored. */
 export function validateUpload(bytes: Buffer, kind: 'sweep' | 'impedance_table', profile: StationProfile | null): void {
-  try {
-    if (bytes.length === 0) throw new AnalysisInputError('empty_file', 'The file is empty')
-    if (kind === 'sweep') {
-      if (!profile) throw new UploadRefused(422, 'station_required', 'A sweep recording needs its station (its profile tells the channels and calibration)')
-      validateRecording(bytes, profile)
-    } else {
-      parseImpedanceTable(bytes.toString('utf8'))
-    }
-  } catch (err) {
-    if (err instanceof AnalysisInputError) throw new UploadRefused(STATUS_OF_CODE[err.code] ?? 422, err.code, err.message)
-    throw err
+  if (bytes.length === 0) throw new AnalysisInputError('empty_file', 'The file is empty')
+  if (kind === 'sweep') {
+    if (!profile) throw new UploadRefused('station_required', 'A sweep recording needs its station (its profile tells the channels and calibration)')
+    validateRecording(bytes, profile)
+  } else {
+    parseImpedanceTable(bytes.toString('utf8'))
   }
 }
 
@@ -79,7 +68,7 @@ export function validateUpload(bytes: Buffer, kind: 'sweep' | 'impedance_table',
  * Accepts one upload: validates it, then in one transaction registers the unit when new, stores the
  * file, inserts the recording row and enqueues its analysis. The same file for the same unit again
  * returns the earlier recording. Nothing is left behind when any step fails.
- * @throws UploadRefused for input the product cannot take (status and code for the answer).
+ * @throws UploadRefused or AnalysisInputError for input the product cannot take.
  */
 export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: PgBoss, src: UploadSource): Promise<UploadOutcome> {
   try {
@@ -94,20 +83,20 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
       return await db.transaction(async (trx) => {
         // A return test: the return stays open (locked) until its recording row is in.
         const ret = src.returnId === undefined ? undefined : await getReturnRow(trx, src.returnId, { forUpdate: true })
-        if (src.returnId !== undefined && !ret) throw new UploadRefused(404, 'unknown_return', `No return ${src.returnId}`)
-        if (ret && ret.status !== 'open') throw new UploadRefused(409, 'return_closed', `Return ${ret.id} is closed: nothing can be added to it`)
+        if (src.returnId !== undefined && !ret) throw new UploadRefused('unknown_return', `No return ${src.returnId}`)
+        if (ret && ret.status !== 'open') throw new UploadRefused('return_closed', `Return ${ret.id} is closed: nothing can be added to it`)
         const unit = await resolveUnit(trx, serial, product, lot)
         if (ret && Number(unit.id) !== ret.unitId) {
-          throw new UploadRefused(422, 'wrong_unit', `Return ${ret.id} is for unit ${ret.serial}, not ${serial}`)
+          throw new UploadRefused('wrong_unit', `Return ${ret.id} is for unit ${ret.serial}, not ${serial}`)
         }
         const earlier = await findRecordingByContent(trx, Number(unit.id), sha256)
         if (earlier && ret && Number(earlier.return_id) !== ret.id) {
-          throw new UploadRefused(409, 'already_uploaded', `This exact file was already uploaded for unit ${ret.serial}${earlier.is_return_test ? ' as a return test' : ' as its factory test'}: record the returned unit anew`)
+          throw new UploadRefused('already_uploaded', `This exact file was already uploaded for unit ${ret.serial}${earlier.is_return_test ? ' as a return test' : ' as its factory test'}: record the returned unit anew`)
         }
         if (earlier) return { id: Number(earlier.id), status: earlier.status, duplicate: true }
         const elsewhere = await findRecordingOfOtherUnit(trx, Number(unit.id), sha256)
         if (elsewhere) {
-          throw new UploadRefused(422, 'same_recording_other_unit', `This exact file was already uploaded for unit ${elsewhere.serial}: a station must record each unit anew`)
+          throw new UploadRefused('same_recording_other_unit', `This exact file was already uploaded for unit ${elsewhere.serial}: a station must record each unit anew`)
         }
         const id = await insertRecording(trx, {
           unitId: Number(unit.id),

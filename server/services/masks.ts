@@ -1,8 +1,11 @@
+import { DomainError } from '../../shared/utils/domain-error.ts'
+import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import type { Knex } from 'knex'
 import type { MaskCandidate, MaskPreview, MaskView } from '../../shared/types/api.ts'
 import { reDisagreementPct } from '../../shared/utils/coil.ts'
 import { SCALAR_LIMIT_NAMES, figureValue, type MaskCreateInput, type MaskLimits } from '../../shared/utils/mask.ts'
-import { createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, type ActiveMask } from '../repos/masks.ts'
+import { createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, retireMask as retireReleasedMask, type ActiveMask } from '../repos/masks.ts'
+import { recordAudit } from './audit.ts'
 import { getProductByCode, getProductById } from '../repos/products.ts'
 import { listProfilesOfRecordings } from '../repos/stations.ts'
 import { serialsOfOtherProducts } from '../repos/units.ts'
@@ -11,14 +14,8 @@ import { judge, type Judgement } from '../verdict/judge.ts'
 import { proposeLimits, summarize } from '../verdict/propose.ts'
 
 /** A golden-unit choice the product's data cannot support. */
-export class GoldenError extends Error {
-  constructor(
-    readonly code: 'unknown_product' | 'golden_not_measured' | 'golden_wrong_product',
-    message: string,
-  ) {
-    super(message)
-  }
-}
+export const GOLDEN_ERROR_CODES = ['product_not_found', 'golden_not_measured', 'golden_wrong_product'] as const satisfies readonly ErrorCode[]
+export class GoldenError extends DomainError<(typeof GOLDEN_ERROR_CODES)[number]> {}
 
 /** Largest number of units a preview lists one by one (the counts cover all). */
 const PREVIEW_LIST_MAX = 500
@@ -26,7 +23,7 @@ const PREVIEW_LIST_MAX = 500
 /** The units a mask may be built from: each unit's latest production result. */
 export async function listCandidates(db: Knex, productCode: string, limit: number): Promise<MaskCandidate[]> {
   const product = await getProductByCode(db, productCode)
-  if (!product) throw new GoldenError('unknown_product', `No product with code ${productCode}`)
+  if (!product) throw new GoldenError('product_not_found', `No product with code ${productCode}`)
   return (await listLatestPerUnit(db, product.id, limit)).map((r) => ({
     serial: r.serial,
     recordingId: r.recordingId,
@@ -47,7 +44,7 @@ export async function listCandidates(db: Knex, productCode: string, limit: numbe
  */
 export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, userId: number | null): Promise<number> {
   const product = await getProductByCode(db, input.product)
-  if (!product) throw new GoldenError('unknown_product', `No product with code ${input.product}`)
+  if (!product) throw new GoldenError('product_not_found', `No product with code ${input.product}`)
   const golden = await listLatestPerUnit(db, product.id, input.goldenSerials.length, input.goldenSerials)
   const found = new Set(golden.map((g) => g.serial))
   const missing = input.goldenSerials.filter((s) => !found.has(s))
@@ -103,9 +100,29 @@ export async function judgeUnjudged(trx: Knex.Transaction, mask: ActiveMask, pro
 
 const JUDGE_BATCH = 500
 
-/** Releases a draft and judges the product's never-judged results with it, in one transaction. */
-export function releaseAndJudge(db: Knex, maskId: number, by: number | null, comment: string, at?: Date) {
-  return releaseMask(db, maskId, { by, comment, at, afterRelease: judgeUnjudged })
+/**
+ * Releases a draft and judges the product's never-judged results with it, in one transaction: the
+ * product row the release locks stays locked while judging, so no analysis saves a result between.
+ * @throws MaskStateError (see releaseMask).
+ */
+export function releaseAndJudge(db: Knex, maskId: number, by: number | null, comment: string, at?: Date): Promise<{ version: number; judgedUnjudged: number }> {
+  return db.transaction(async (trx) => {
+    const released = await releaseMask(trx, maskId, { by, comment, at })
+    await recordAudit(trx, { userId: by, action: 'mask.release', entity: 'mask', entityId: maskId, comment, detail: { product: released.productCode, version: released.version, replaced: released.replaced } })
+    return { version: released.version, judgedUnjudged: await judgeUnjudged(trx, released.mask, released.productId) }
+  })
+}
+
+/**
+ * Retires a released mask and audits it, in one transaction: the product then has no active mask.
+ * @throws MaskStateError `mask_not_released`.
+ */
+export function retireMask(db: Knex, maskId: number, by: number | null, comment: string | null): Promise<{ version: number }> {
+  return db.transaction(async (trx) => {
+    const retired = await retireReleasedMask(trx, maskId, by, comment)
+    await recordAudit(trx, { userId: by, action: 'mask.retire', entity: 'mask', entityId: maskId, comment, detail: { version: retired.version } })
+    return retired
+  })
 }
 
 export async function getMaskView(db: Knex, id: number): Promise<MaskView | undefined> {

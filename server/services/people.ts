@@ -1,8 +1,10 @@
 /** People: invitations, roles and (de)activation, each written to the audit log with the change. */
+import { DomainError } from '../../shared/utils/domain-error'
+import type { ErrorCode } from '../../shared/utils/error-codes'
 import type { Knex } from 'knex'
 import { acceptInvitation, createInvitation, revokeInvitation } from '../repos/invitations'
 import { getUserById, lockActiveAdmins, setActive, setRole } from '../repos/users'
-import { writeAudit } from '../repos/audit'
+import { recordAudit } from './audit'
 import { sendInvitationMail } from '../mail/invitation'
 import { INVITATION_HOURS, type InviteInput, type PersonPatch } from '../../shared/utils/people'
 import type { InvitationCreated, InvitationView } from '../../shared/types/people'
@@ -16,15 +18,8 @@ export interface Actor {
 }
 
 /** A change to a person that cannot be made. */
-export class PeopleError extends Error {
-  constructor(
-    readonly status: number,
-    readonly code: 'unknown_person' | 'last_admin',
-    message: string,
-  ) {
-    super(message)
-  }
-}
+export const PEOPLE_ERROR_CODES = ['unknown_person', 'last_admin'] as const satisfies readonly ErrorCode[]
+export class PeopleError extends DomainError<(typeof PEOPLE_ERROR_CODES)[number]> {}
 
 /**
  * Invites someone: the link is `<origin>/invite/<token>`, e-mailed and returned once to the admin.
@@ -40,7 +35,7 @@ export async function invitePerson(db: Knex, by: Actor, input: InviteInput, orig
   } catch (err) {
     mailError = err instanceof Error ? err.message : String(err)
   }
-  await writeAudit(db, {
+  await recordAudit(db, {
     userId: by.id,
     action: 'invitation.create',
     entity: 'invitation',
@@ -54,14 +49,14 @@ export async function invitePerson(db: Knex, by: Actor, input: InviteInput, orig
 
 export async function withdrawInvitation(db: Knex, by: Actor, id: number): Promise<InvitationView | undefined> {
   const view = await revokeInvitation(db, id, by.id)
-  if (view) await writeAudit(db, { userId: by.id, action: 'invitation.revoke', entity: 'invitation', entityId: id, subject: view.email, ip: by.ip, detail: { email: view.email, role: view.role } })
+  if (view) await recordAudit(db, { userId: by.id, action: 'invitation.revoke', entity: 'invitation', entityId: id, subject: view.email, ip: by.ip, detail: { email: view.email, role: view.role } })
   return view
 }
 
 /** Uses an invitation link: the new account and the audit entry. @throws InvitationError */
 export async function joinByInvitation(db: Knex, token: string, input: { displayName: string; passwordHash: string }, ip: string | null) {
   const joined = await acceptInvitation(db, token, input)
-  await writeAudit(db, {
+  await recordAudit(db, {
     userId: joined.userId,
     action: 'invitation.accept',
     entity: 'user',
@@ -76,25 +71,25 @@ export async function joinByInvitation(db: Knex, token: string, input: { display
 /**
  * Changes a person's role or (de)activates them. Nobody is ever deleted. The change that would
  * leave no active admin is refused, whoever makes it (the active admins' rows are locked first).
- * @throws PeopleError `unknown_person` (404), `last_admin` (409).
+ * @throws PeopleError `unknown_person`, `last_admin`.
  */
 export async function changePerson(db: Knex, by: Actor, id: number, patch: PersonPatch): Promise<void> {
   await db.transaction(async (trx) => {
     const admins = await lockActiveAdmins(trx)
     const person = await getUserById(trx, id)
-    if (!person) throw new PeopleError(404, 'unknown_person', `No person ${id}`)
+    if (!person) throw new PeopleError('unknown_person', `No person ${id}`)
     const leavesAdmins = person.role === 'admin' && person.active && ((patch.role !== undefined && patch.role !== 'admin') || patch.active === false)
     if (leavesAdmins && admins.length <= 1) {
-      throw new PeopleError(409, 'last_admin', `${person.display_name} is the last active admin: make someone else admin first`)
+      throw new PeopleError('last_admin', `${person.display_name} is the last active admin: make someone else admin first`)
     }
     const audit = { userId: by.id, entity: 'user', entityId: id, subject: person.email, ip: by.ip }
     if (patch.role !== undefined && patch.role !== person.role) {
       await setRole(trx, id, patch.role)
-      await writeAudit(trx, { ...audit, action: 'user.role_change', detail: { from: person.role, to: patch.role } })
+      await recordAudit(trx, { ...audit, action: 'user.role_change', detail: { from: person.role, to: patch.role } })
     }
     if (patch.active !== undefined && patch.active !== person.active) {
       await setActive(trx, id, patch.active, by.id)
-      await writeAudit(trx, { ...audit, action: patch.active ? 'user.reactivate' : 'user.deactivate', detail: { role: patch.role ?? person.role } })
+      await recordAudit(trx, { ...audit, action: patch.active ? 'user.reactivate' : 'user.deactivate', detail: { role: patch.role ?? person.role } })
     }
   })
 }

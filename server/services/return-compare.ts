@@ -50,11 +50,11 @@ function overlay(f: RecordingView, r: RecordingView): ReturnComparison['curves']
  * The comparison of a returned unit with its factory test: the latest production test with a
  * result (never a return test) against the return's latest analysed return test; the delta table,
  * plain-language readings (trade practice) and both curves overlaid.
- * @throws ReturnError 404 `unknown_return`.
+ * @throws ReturnError `unknown_return`.
  */
 export async function compareReturn(db: Knex, returnId: number): Promise<ReturnComparison> {
   const ret = await getReturnRow(db, returnId)
-  if (!ret) throw new ReturnError(404, 'unknown_return', `No return ${returnId}`)
+  if (!ret) throw new ReturnError('unknown_return', `No return ${returnId}`)
   const [factoryId, returnTestId, tests] = await Promise.all([latestFactoryRecordingId(db, ret.unitId), latestReturnTestRecordingId(db, returnId), listReturnTests(db, returnId)])
   const [factory, returned] = await Promise.all([
     factoryId === null ? undefined : getRecordingView(db, factoryId, { curves: true }),

@@ -1,12 +1,12 @@
+import { DomainError } from '../../shared/utils/domain-error.ts'
+import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import type { Knex } from 'knex'
-import type { RecordingView, UnitView } from '../../shared/types/api.ts'
-import type { UnitSearchAnswer, UnitTest } from '../../shared/types/units.ts'
+import type { RecordingView } from '../../shared/types/api.ts'
+import type { UnitSearchAnswer, UnitTest, UnitView } from '../../shared/types/units.ts'
 import { NEAREST_LIMIT, SEARCH_LIST_LIMIT, rankNearest } from '../../shared/utils/units.ts'
-import { writeAudit } from '../repos/audit.ts'
-import { getActiveMask } from '../repos/masks.ts'
+import { recordAudit } from './audit.ts'
 import { getProductById } from '../repos/products.ts'
 import { getRecordingView, listUnitRecordings } from '../repos/recordings.ts'
-import { listProductResults } from '../repos/results.ts'
 import {
   findUnitIdsByPrefix,
   findUnitIdsBySerialIgnoringCase,
@@ -18,7 +18,7 @@ import {
   serialsEndingWith,
 } from '../repos/units.ts'
 import { renderCertificatePdf, type CertificateData } from '../reports/certificate.ts'
-import { judge } from '../verdict/judge.ts'
+import { currentMaskOpinion } from './current-mask.ts'
 
 /** Shortest query for which serials ending with it are offered (fewer digits match too many units). */
 const SUFFIX_MIN_CHARS = 4
@@ -52,18 +52,18 @@ async function findUnit(db: Knex, serial: string) {
 /**
  * A unit's factory record: product, lot and every recording with its result, newest first, with
  * who ran each test, where, and the mask version that judged it. Its verdict is its latest
- * production result's; beside each historic verdict, what the current mask says.
+ * production result's; beside each historic verdict, what the current mask says (currentMaskOpinion:
+ * a re-judgement shown, never stored).
  */
 export async function getUnitView(db: Knex, serial: string): Promise<UnitView | undefined> {
   const unit = await findUnit(db, serial)
   if (!unit) return undefined
   const productId = Number(unit.product_id)
-  const [product, lot, recordings, context, active] = await Promise.all([
+  const [product, lot, recordings, context] = await Promise.all([
     getProductById(db, productId),
     unit.lot_id ? getLotCode(db, Number(unit.lot_id)) : Promise.resolve(null),
     listUnitRecordings(db, Number(unit.id)),
     listTestContext(db, Number(unit.id)),
-    getActiveMask(db, productId),
   ])
   const byId = new Map(context.map((c) => [c.id, c]))
   const tests: UnitTest[] = recordings.map((r, i) => {
@@ -79,17 +79,7 @@ export async function getUnitView(db: Knex, serial: string): Promise<UnitView | 
     }
   })
   const latest = recordings.find((r) => r.status === 'done' && !r.returnTest)
-  let currentMask: UnitView['currentMask'] = null
-  if (active) {
-    const stored = await listProductResults(db, productId, { recordingIds: recordings.map((r) => r.id), includeReturnTests: true })
-    currentMask = {
-      version: active.version,
-      results: stored.map((r) => {
-        const j = judge(r, active.limits, product!.ratedImpedanceOhm)
-        return { recordingId: r.recordingId, verdict: j.verdict, failedChecks: j.checks.filter((c) => !c.pass).map((c) => c.name) }
-      }),
-    }
-  }
+  const currentMask = await currentMaskOpinion(db, product!, recordings.map((r) => r.id))
   return {
     serial: unit.serial,
     product: product!,
@@ -102,17 +92,9 @@ export async function getUnitView(db: Knex, serial: string): Promise<UnitView | 
   }
 }
 
-/** Why no certificate can be issued; the route answers with the status and code. */
-export class CertificateError extends Error {
-  constructor(
-    readonly status: 404 | 409,
-    readonly code: 'unknown_serial' | 'no_production_test',
-    message: string,
-  ) {
-    super(message)
-    this.name = 'CertificateError'
-  }
-}
+export const CERTIFICATE_ERROR_CODES = ['unit_not_found', 'no_production_test'] as const satisfies readonly ErrorCode[]
+/** Why no certificate can be issued. */
+export class CertificateError extends DomainError<(typeof CERTIFICATE_ERROR_CODES)[number]> {}
 
 /**
  * What a unit's test certificate states: its latest finished production test (return tests never
@@ -121,11 +103,11 @@ export class CertificateError extends Error {
  */
 export async function getCertificateData(db: Knex, serial: string, issuedAt = new Date()): Promise<CertificateData> {
   const unit = await getUnitView(db, serial)
-  if (!unit) throw new CertificateError(404, 'unknown_serial', `Unit ${serial} has never been tested here`)
+  if (!unit) throw new CertificateError('unit_not_found', `Unit ${serial} has never been tested here`)
   const test = unit.recordings.find((r) => r.id === unit.latestProductionId)
   const withCurves: RecordingView | undefined = test && (await getRecordingView(db, test.id, { curves: true }))
   if (!test || !withCurves) {
-    throw new CertificateError(409, 'no_production_test', `Unit ${unit.serial} has no finished production test: there is nothing to certify yet`)
+    throw new CertificateError('no_production_test', `Unit ${unit.serial} has no finished production test: there is nothing to certify yet`)
   }
   return { unit, test, curves: withCurves.curves ?? null, issuedAt: issuedAt.toISOString() }
 }
@@ -142,7 +124,7 @@ export function certificateFilename(serial: string): string {
 export async function downloadCertificate(db: Knex, serial: string, by: { id: number }): Promise<{ pdf: Buffer; filename: string }> {
   const data = await getCertificateData(db, serial)
   const pdf = await renderCertificatePdf(data)
-  await writeAudit(db, {
+  await recordAudit(db, {
     userId: by.id,
     action: 'certificate.download',
     entity: 'unit',

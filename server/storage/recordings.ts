@@ -1,3 +1,4 @@
+import { DomainError } from '../../shared/utils/domain-error'
 import { randomUUID } from 'node:crypto'
 import { copyFile, mkdir, open, readFile, rename, rm } from 'node:fs/promises'
 import { dirname, join, resolve, sep } from 'node:path'
@@ -25,15 +26,13 @@ export function newStorageKey(sha256: string, kind: 'sweep' | 'impedance_table',
 export const STORAGE_FAULT_CODES = ['ENOSPC', 'EDQUOT', 'EROFS', 'EACCES', 'EPERM', 'ENOTDIR', 'EEXIST', 'EISDIR', 'EIO'] as const
 
 /** The store cannot take the file (disk full, read-only, wrong permissions): nothing was stored. */
-export class StorageUnavailable extends Error {
-  readonly code = 'storage_unavailable'
+export class StorageUnavailable extends DomainError<'storage_unavailable'> {
   constructor(
-    /** The operating system's errno code, e.g. ENOSPC. */
+    /** The operating system's errno code, e.g. ENOSPC (also in the answer's data). */
     readonly errno: string,
     message: string,
   ) {
-    super(message)
-    this.name = 'StorageUnavailable'
+    super('storage_unavailable', message, { errno })
   }
 }
 

@@ -1,11 +1,10 @@
 import type { H3Event } from 'h3'
 import type { User } from '#auth-utils'
 import { getUserById } from '../repos/users'
-import { InvitationError } from '../repos/invitations'
-import { PeopleError, type Actor } from '../services/people'
+import type { Actor } from '../services/people'
 import { roleAllows, type Role } from '../../shared/utils/roles'
 import { useDb } from './db'
-import { httpError } from './errors'
+import { DomainError } from '../../shared/utils/domain-error'
 
 /** Whether a session signed in at `loggedInAt` is older than the person's cut-off (set on deactivation). */
 export function sessionCutOff(loggedInAt: unknown, validFrom: Date | null): boolean {
@@ -23,15 +22,15 @@ export function sessionCutOff(loggedInAt: unknown, validFrom: Date | null): bool
  */
 export async function requireRole(event: H3Event, ...roles: Role[]): Promise<User> {
   const session = await getUserSession(event)
-  if (!session.user) throw httpError(401, 'unauthenticated', 'Sign in first')
+  if (!session.user) throw new DomainError('unauthenticated', 'Sign in first')
   const row = await getUserById(useDb(), session.user.id)
   if (!row || !row.active || sessionCutOff(session.loggedInAt, row.sessions_valid_from)) {
     await endSession(event)
-    throw httpError(401, 'unauthenticated', 'Sign in first')
+    throw new DomainError('unauthenticated', 'Sign in first')
   }
   const user: User = { id: Number(row.id), email: row.email, displayName: row.display_name, role: row.role }
   if (roles.length && !roleAllows(user.role, roles)) {
-    throw httpError(403, 'forbidden', `This needs the ${roles.join(' or ')} role`)
+    throw new DomainError('forbidden', `This needs the ${roles.join(' or ')} role`)
   }
   return user
 }
@@ -93,10 +92,4 @@ export async function startSession(event: H3Event, user: User): Promise<void> {
 
 export async function endSession(event: H3Event): Promise<void> {
   await clearUserSession(event, cookieConfig(event))
-}
-
-/** The people service's and the invitations' typed errors as HTTP errors; anything else as it is. */
-export function toPeopleHttpError(err: unknown): unknown {
-  if (err instanceof InvitationError || err instanceof PeopleError) return httpError(err.status, err.code, err.message)
-  return err
 }

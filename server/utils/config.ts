@@ -1,3 +1,4 @@
+import { DomainError } from '../../shared/utils/domain-error'
 import { existsSync, readFileSync } from 'node:fs'
 import { isAbsolute, join, resolve } from 'node:path'
 
@@ -26,8 +27,10 @@ export const DEFAULTS = {
 } as const
 
 /** Raised for an environment value that cannot be used; the message names the variable. */
-export class ConfigError extends Error {
-  readonly code = 'invalid_config'
+export class ConfigError extends DomainError<'invalid_config'> {
+  constructor(message: string) {
+    super('invalid_config', message)
+  }
 }
 
 function parsePort(name: string, raw: string | undefined, fallback: number): number {

@@ -1,33 +1,10 @@
-import { createError } from 'h3'
+import { STATUS_CODES } from 'node:http'
+import { randomUUID } from 'node:crypto'
+import { setResponseHeader, type H3Error, type H3Event } from 'h3'
 import { ZodError } from 'zod'
-import { AnalysisInputError } from '../analysis/index'
-import { UnitInputError } from '../repos/units'
-import { UploadRefused } from '../services/ingest'
-import { MaskStateError } from '../repos/masks'
-import { ProductConflict } from '../repos/products'
-import { StationConflict } from '../repos/stations'
-import { GoldenError } from '../services/masks'
-import { ProposeError } from '../verdict/propose'
-import { StorageUnavailable } from '../storage/recordings'
+import { DomainError } from '../../shared/utils/domain-error'
+import { ERROR_CODES, codeForStatus, isErrorCode, type ErrorCode } from '../../shared/utils/error-codes'
 import { isDatabaseUnavailable } from './db'
-
-const STATUS_TEXT: Record<number, string> = {
-  400: 'Bad Request',
-  401: 'Unauthorized',
-  403: 'Forbidden',
-  404: 'Not Found',
-  409: 'Conflict',
-  413: 'Payload Too Large',
-  415: 'Unsupported Media Type',
-  422: 'Unprocessable Content',
-  503: 'Service Unavailable',
-  507: 'Insufficient Storage',
-}
-
-/** An HTTP error with a readable message and a machine code in data.code (the only kind routes raise). */
-export function httpError(statusCode: number, code: string, message: string, extra: Record<string, unknown> = {}) {
-  return createError({ statusCode, statusMessage: STATUS_TEXT[statusCode], message, data: { code, ...extra } })
-}
 
 /** zod's own wording "Invalid input: expected number, received NaN" (used where a schema set none). */
 const ZOD_TYPE = /^Invalid input: expected (\w+), received (\w+)/
@@ -50,61 +27,122 @@ export function issueText(path: string, message: string): string {
   return `${field}: ${message}`
 }
 
+/** One field's refusal: the path in the input and the schema's message. */
+export interface InputIssue {
+  path: string
+  message: string
+}
+
 /**
- * Thrown by zodValidator. h3's readValidatedBody turns whatever a validator throws into a 400 whose
- * `data` is that error, so the enumerable fields below become data.code and data.issues.
+ * Thrown by zodValidator and parseInput: 400 `invalid_input` with `issues` in the answer's data.
+ * (h3's validated readers wrap whatever a validator throws in a 400 whose `data` is this error; the
+ * error hook finds it there.)
  */
-export class InputValidationError extends Error {
-  readonly code = 'invalid_input'
-  readonly issues: { path: string; message: string }[]
-  constructor(err: ZodError) {
-    const issues = err.issues.map((i) => ({ path: i.path.join('.'), message: i.message }))
-    super(issues.map((i) => issueText(i.path, i.message)).join('; '))
+export class InputValidationError extends DomainError<'invalid_input'> {
+  readonly issues: InputIssue[]
+  /** `prefix` names where the validated value sits in the request (e.g. `profile`). */
+  constructor(err: ZodError, prefix = '') {
+    const issues = err.issues.map((i) => ({ path: [prefix, i.path.join('.')].filter(Boolean).join('.'), message: i.message }))
+    super('invalid_input', issues.map((i) => issueText(i.path, i.message)).join('; '), { issues })
     this.issues = issues
   }
 }
 
 /** Validator for readValidatedBody, getValidatedQuery and getValidatedRouterParams with a zod schema. */
 export function zodValidator<T>(schema: { parse: (v: unknown) => T }) {
-  return (value: unknown): T => {
-    try {
-      return schema.parse(value)
-    } catch (err) {
-      if (err instanceof ZodError) throw new InputValidationError(err)
-      throw err
-    }
-  }
+  return (value: unknown): T => parseInput(schema, value)
 }
 
 /** Seconds a client should wait before retrying after a 503. */
 export const RETRY_AFTER_S = 2
 
-/** The one mapper from typed domain errors to HTTP errors; anything unknown is rethrown as it is. */
-export function toHttpError(err: unknown): unknown {
-  if (err instanceof UploadRefused) return httpError(err.status, err.code, err.message)
-  if (err instanceof UnitInputError) return httpError(422, err.code, err.message)
-  if (err instanceof AnalysisInputError) return httpError(422, err.code, err.message)
-  if (err instanceof MaskStateError) return httpError(err.code === 'unknown_mask' ? 404 : 409, err.code, err.message)
-  if (err instanceof GoldenError) return httpError(err.code === 'unknown_product' ? 404 : 422, err.code, err.message)
-  if (err instanceof ProposeError) return httpError(422, err.code, err.message)
-  if (err instanceof ProductConflict) return httpError(409, err.code, err.message, { field: err.field })
-  if (err instanceof StationConflict) return httpError(409, err.code, err.message)
-  // Nothing was stored: the station keeps its file and tries again later (or an administrator frees space).
-  if (err instanceof StorageUnavailable) return httpError(507, err.code, err.message, { errno: err.errno })
-  // PostgreSQL restarting or unreachable: nothing was committed, so the same upload can simply be sent again.
-  if (isDatabaseUnavailable(err)) {
-    return httpError(503, 'database_unavailable', 'The database is not reachable right now; try again in a few seconds', { retryAfterS: RETRY_AFTER_S })
-  }
-  return err
-}
-
-/** Validates a value outside h3's validated readers (e.g. a nested profile, multipart fields). @throws 400 `invalid_input` naming each field. */
+/** Validates a value outside h3's validated readers (a nested profile, multipart fields). @throws InputValidationError naming each field under `prefix`. */
 export function parseInput<T>(schema: { parse: (v: unknown) => T }, value: unknown, prefix = ''): T {
   try {
-    return zodValidator(schema)(value)
+    return schema.parse(value)
   } catch (err) {
-    if (!(err instanceof InputValidationError)) throw err
-    const issues = err.issues.map((i) => ({ ...i, path: [prefix, i.path].filter(Boolean).join('.') }))
-    throw httpError(400, err.code, issues.map((i) => issueText(i.path, i.message)).join('; '), { issues })
+    if (err instanceof ZodError) throw new InputValidationError(err, prefix)
+    throw err
   }
+}
+
+/** The domain error behind an error h3 caught: the error itself, its cause, or a validator's error in its data. */
+function domainErrorOf(error: unknown): DomainError | undefined {
+  const e = error as { cause?: unknown; data?: unknown } | undefined
+  for (const candidate of [error, e?.cause, e?.data]) {
+    if (candidate instanceof DomainError && isErrorCode(candidate.code)) return candidate
+  }
+  return undefined
+}
+
+/**
+ * A request path fit for the log: the query is dropped and any long opaque segment (invitation
+ * links, tokens) is cut, so a secret in a URL never reaches the log.
+ */
+export function loggablePath(path: string): string {
+  return path
+    .split('?')[0]!
+    .split('/')
+    .map((seg) => (seg.length >= 16 && /^[\w~.%-]+$/.test(seg) && /\d/.test(seg) ? '…' : seg))
+    .join('/')
+}
+
+/** What an error answer carries, decided once for every route (the hook in server/plugins/00.errors.ts applies it). */
+export interface ErrorAnswer {
+  statusCode: number
+  message: string
+  data: { code: ErrorCode } & Record<string, unknown>
+  headers: Record<string, string | number>
+  /** Set for an error nobody expected: logged with this id, quoted in the answer. */
+  requestId?: string
+}
+
+function coded(code: ErrorCode, message: string, details: Record<string, unknown> = {}): ErrorAnswer {
+  const headers: Record<string, string | number> = code === 'database_unavailable' ? { 'retry-after': RETRY_AFTER_S } : {}
+  const data = code === 'database_unavailable' ? { ...details, code, retryAfterS: RETRY_AFTER_S } : { ...details, code }
+  return { statusCode: ERROR_CODES[code].status, message, data, headers }
+}
+
+/**
+ * The one map from an error to its answer:
+ * - a domain error (engine, repos, services, guards: a code from the one table) answers its code's
+ *   status with `{ code, ...details }`;
+ * - an unreachable database (PostgreSQL restarting) answers 503 `database_unavailable`: nothing was
+ *   committed, so the same request can simply be sent again;
+ * - an h3 error below 500 (an unknown path, a body that is not JSON) keeps its status and gets a
+ *   code by its status when it has none;
+ * - anything else is 500 `internal_error` with a request id, and never its own words.
+ */
+export function errorAnswer(error: H3Error): ErrorAnswer {
+  const domain = domainErrorOf(error)
+  if (domain) return coded(domain.code, domain.message, domain.details)
+  if (isDatabaseUnavailable(error.cause ?? error)) return coded('database_unavailable', ERROR_CODES.database_unavailable.message)
+  const status = error.statusCode ?? 500
+  if (status < 500 && !error.unhandled) {
+    const data = error.data && typeof error.data === 'object' ? (error.data as Record<string, unknown>) : {}
+    const code = isErrorCode(data.code) ? data.code : codeForStatus(status)
+    return { statusCode: status, message: error.message || ERROR_CODES[code].message, data: { ...data, code }, headers: {} }
+  }
+  const requestId = randomUUID()
+  const answer = coded('internal_error', `${ERROR_CODES.internal_error.message}; quote request ${requestId} when you report it`, { requestId })
+  return { ...answer, headers: { 'x-request-id': requestId }, requestId }
+}
+
+/**
+ * Rewrites the error h3 is about to answer (Nitro calls its error hooks before it renders the
+ * answer, synchronously up to the first await, so changing the error here changes the answer).
+ * An unexpected error is logged here, once, with its request id, the method and a path without
+ * query or tokens; it is marked handled so that Nitro does not log the raw URL itself.
+ */
+export function shapeErrorAnswer(error: H3Error, event: H3Event): void {
+  const answer = errorAnswer(error)
+  if (answer.requestId) {
+    console.error(`[request error] request ${answer.requestId} ${event.method} ${loggablePath(event.path)}:`, error.cause ?? error)
+  }
+  error.statusCode = answer.statusCode
+  error.statusMessage = STATUS_CODES[answer.statusCode] ?? 'Error'
+  error.message = answer.message
+  error.data = answer.data
+  error.unhandled = false
+  for (const [name, value] of Object.entries(answer.headers)) setResponseHeader(event, name, value)
 }

@@ -3,7 +3,7 @@ import { join } from 'node:path'
 import type { H3Event } from 'h3'
 import formidable, { errors as formidableErrors } from 'formidable'
 import { loadConfig } from './config'
-import { httpError } from './errors'
+import { DomainError } from '../../shared/utils/domain-error'
 
 /** Largest upload accepted (CONETRAIL_MAX_UPLOAD_MB, default 64 MB): a 192 kHz 3-channel 32-bit sweep of 20 s is about 46 MB. */
 export function maxUploadBytes(): number {
@@ -26,7 +26,7 @@ export async function readMultipartUpload(event: H3Event, opts: { maxBytes?: num
   const maxBytes = opts.maxBytes ?? maxUploadBytes()
   const type = getHeader(event, 'content-type') ?? ''
   if (!type.toLowerCase().startsWith('multipart/form-data')) {
-    throw httpError(415, 'not_multipart', 'Send the recording as multipart/form-data with a "file" field')
+    throw new DomainError('not_multipart', 'Send the recording as multipart/form-data with a "file" field')
   }
   const uploadDir = join(loadConfig().dataDir, 'tmp', 'uploads')
   await mkdir(uploadDir, { recursive: true })
@@ -56,8 +56,8 @@ export async function readMultipartUpload(event: H3Event, opts: { maxBytes?: num
     await Promise.all(written.map((p) => rm(p, { force: true })))
     const e = err as { code?: number; httpCode?: number; message?: string }
     if (e.httpCode === 413 || e.code === formidableErrors.biggerThanTotalMaxFileSize || e.code === formidableErrors.biggerThanMaxFileSize) {
-      throw httpError(413, 'too_large', `The file is larger than the ${Math.round(maxBytes / 1048576)} MB limit`)
+      throw new DomainError('too_large', `The file is larger than the ${Math.round(maxBytes / 1048576)} MB limit`)
     }
-    throw httpError(400, 'bad_multipart', `The upload could not be read: ${e.message ?? 'malformed multipart body'}`)
+    throw new DomainError('bad_multipart', `The upload could not be read: ${e.message ?? 'malformed multipart body'}`)
   }
 }

@@ -4,7 +4,7 @@ import { getStation, getStationByToken, type StationSummary } from '../repos/sta
 import type { UploadSource } from '../services/ingest'
 import type { Role } from '../../shared/utils/roles'
 import { useDb } from './db'
-import { httpError } from './errors'
+import { DomainError } from '../../shared/utils/domain-error'
 
 export type Caller = { kind: 'user'; user: User } | { kind: 'station'; station: StationSummary }
 
@@ -16,7 +16,7 @@ export async function requireUserOrStation(event: H3Event, ...roles: Role[]): Pr
   const auth = getHeader(event, 'authorization')
   if (auth?.toLowerCase().startsWith('bearer ')) {
     const station = await getStationByToken(useDb(), auth.slice(7).trim())
-    if (!station) throw httpError(401, 'invalid_token', 'This station token is not valid (revoked or mistyped)')
+    if (!station) throw new DomainError('invalid_token', 'This station token is not valid (revoked or mistyped)')
     return { kind: 'station', station }
   }
   return { kind: 'user', user: await requireRole(event, ...roles) }
@@ -34,6 +34,6 @@ export function uploadStation(station: StationSummary | undefined): UploadSource
 export async function chosenStation(id: number | undefined): Promise<StationSummary | undefined> {
   if (id === undefined) return undefined
   const station = await getStation(useDb(), id)
-  if (!station?.active) throw httpError(422, 'unknown_station', `No active station with id ${id}`)
+  if (!station?.active) throw new DomainError('unknown_station', `No active station with id ${id}`)
   return station
 }

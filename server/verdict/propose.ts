@@ -1,5 +1,6 @@
 /**
- * Proposed mask limits from golden units (issue 5, "Building a mask", steps 2 and 3).
+ * Proposed mask limits from golden units: the statistical starting point of a new mask, before the
+ * engineer edits, previews and releases it.
  *
  * Pure: no database, no HTTP. Every limit is the golden mean ± max(k·σ, floor), with σ the sample
  * standard deviation (n − 1 in the denominator, Bessel's correction; NIST/SEMATECH e-Handbook of
@@ -10,14 +11,16 @@
  *
  * The engineer edits every proposed figure afterwards; these are starting points, not rules.
  */
+import { DomainError } from '../../shared/utils/domain-error.ts'
+import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import { DEFAULT_SWEEP, OCTAVE_RATIO_BASE10, valueAtHz } from '../analysis/index.ts'
 import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analysis/index.ts'
 import { SCALAR_LIMIT_NAMES, figureValue, type MaskLimits, type ScalarLimitName } from '../../shared/utils/mask.ts'
 
-/** Fewer golden units than this gives a standard deviation too uncertain to build limits on (issue 5). */
+/** Fewer golden units than this gives a standard deviation too uncertain to build limits on. */
 export const MIN_GOLDEN_UNITS = 5
 export const DEFAULT_K = 3
-/** Response-curve floor, dB (issue 5 default). */
+/** Response-curve floor, dB (our default: keeps the band off the response's own repeatability when the golden curves agree closely). */
 export const DEFAULT_CURVE_FLOOR_DB = 1.5
 /** Impedance-curve floor as a fraction of the mean |Z| at each frequency: ±5 % (our choice, common practice in spirit). */
 export const DEFAULT_IMPEDANCE_FLOOR_FRACTION = 0.05
@@ -95,17 +98,11 @@ export interface ProposeOptions {
   scalarFloors?: Partial<Record<ScalarLimitName, number | null>>
 }
 
-export type ProposeErrorCode = 'too_few_golden_units' | 'invalid_proposal_options'
+export const PROPOSE_ERROR_CODES = ['too_few_golden_units', 'invalid_proposal_options'] as const satisfies readonly ErrorCode[]
+export type ProposeErrorCode = (typeof PROPOSE_ERROR_CODES)[number]
 
-/** A proposal that cannot be made; `code` is stable for the error mapper. */
-export class ProposeError extends Error {
-  readonly code: ProposeErrorCode
-  constructor(code: ProposeErrorCode, message: string) {
-    super(message)
-    this.name = 'ProposeError'
-    this.code = code
-  }
-}
+/** A proposal that cannot be made. */
+export class ProposeError extends DomainError<ProposeErrorCode> {}
 
 export interface Summary {
   n: number

@@ -2,7 +2,8 @@ import { mean, sampleStandardDeviation } from 'simple-statistics'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
-import type { MaskPreview, MaskView, RecordingView, UnitView } from '../../shared/types/api'
+import type { MaskPreview, MaskView, RecordingView } from '../../shared/types/api'
+import type { UnitView } from '../../shared/types/units'
 import { signIn, useTestServer } from '../support/app'
 import { closeTestDb, makeProduct, makeStation, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
@@ -99,7 +100,7 @@ describe('a mask from golden units through its life', () => {
   it.each([
     ['fewer than 5 golden units', () => ({ product: product.code, goldenSerials: golden.slice(0, 4).map((g) => g.serial) }), 400, 'invalid_input'],
     ['a unit never measured', () => ({ product: product.code, goldenSerials: [...golden.slice(0, 5).map((g) => g.serial), 'NEVER-SEEN-1'] }), 422, 'golden_not_measured'],
-    ['an unknown product', () => ({ product: 'NO-SUCH', goldenSerials: golden.slice(0, 5).map((g) => g.serial) }), 404, 'unknown_product'],
+    ['an unknown product', () => ({ product: 'NO-SUCH', goldenSerials: golden.slice(0, 5).map((g) => g.serial) }), 404, 'product_not_found'],
   ])('refuses %s', async (_l, body, status, code) => {
     const res = await api('POST', '/api/masks', body())
     expect(res.status).toBe(status)

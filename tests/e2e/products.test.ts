@@ -63,7 +63,7 @@ describe('POST /api/products', () => {
     expect(row.coil).toMatchObject(WOOFER_COIL)
   })
 
-  it('creates a product without a coil (expected Re null) and with the API line of issue 5 only', async () => {
+  it('creates a product without a coil (expected Re null) and with only the required fields', async () => {
     const code = unique('T25')
     const res = await call('POST', '/api/products', engineer, { code, name: 'Tweeter 25 mm', ratedImpedanceOhm: 6 })
     expect(res.status).toBe(201)
@@ -130,10 +130,10 @@ describe('GET /api/products and /api/products/:code', () => {
     expect((await call('GET', `/api/products/${input.code}`, null)).status).toBe(401)
   })
 
-  it('answers 404 unknown_product for a code nobody created', async () => {
+  it('answers 404 product_not_found for a code nobody created', async () => {
     const res = await call('GET', `/api/products/${unique('NONE')}`, technician)
     expect(res.status).toBe(404)
-    expect(res.body.data!.code).toBe('unknown_product')
+    expect(res.body.data!.code).toBe('product_not_found')
   })
 })
 

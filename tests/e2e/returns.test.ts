@@ -18,7 +18,7 @@ import { startWorker, type RunningWorker } from '../support/worker'
 const host = await useTestServer()
 
 /**
- * The returns desk end to end (issue 7). Seeds 1200–1399 are this file's (DEVELOPERS.md, "Add a test").
+ * The returns desk end to end. Seeds 1200–1399 are this file's (DEVELOPERS.md, "Add a test").
  * A lot of three units, all passing at the factory; unit A comes back, is re-tested with a recording
  * of a tired driver (lower Fs and Qms: a softened suspension) that also reads inverted polarity (leads
  * swapped at a repair), so the return test fails: it must never move the lot's yield.
@@ -137,6 +137,9 @@ describe('complaint categories', () => {
     expect((await json<ReturnCategoryView[]>(await call('admin', '/api/return-categories?all=1'))).some((c) => c.id === cat.id)).toBe(true)
     const refused = await call('support', '/api/returns', { json: { serial: serials.C, receivedOn: '2026-11-21', categoryId: cat.id } })
     expect([refused.status, await codeOf(refused)]).toEqual([422, 'unknown_category'])
+    // A category named in the path that does not exist is a 404 of its own code (one status per code).
+    const nowhere = await call('admin', `/api/return-categories/${cat.id + 100000}`, { method: 'PATCH', json: { active: false } })
+    expect([nowhere.status, await codeOf(nowhere)]).toEqual([404, 'category_not_found'])
     await expect(testDb()('return_categories').where({ id: cat.id }).delete()).rejects.toThrow(/foreign key/)
     // The admins' changes are in the audit log under the category's name.
     const audit = await testDb()('audit_log').where({ entity: 'return_category', entity_id: String(cat.id) }).orderBy('id')

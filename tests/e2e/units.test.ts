@@ -1,5 +1,5 @@
 /**
- * Finding a unit and its factory record (issue 7): search by full serial, prefix, scanned barcode
+ * Finding a unit and its factory record: search by full serial, prefix, scanned barcode
  * and a mistyped serial; the record with station, operator and mask version of every test, return
  * tests marked; the test certificate as a PDF and by e-mail, both audited. Seeds 1100–1149.
  */
@@ -10,8 +10,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import type { MailboxEntry } from '../../shared/types/mail'
-import type { UnitView } from '../../shared/types/api'
-import type { UnitSearchAnswer } from '../../shared/types/units'
+import type { UnitSearchAnswer, UnitView } from '../../shared/types/units'
 import { ROLE_LABELS, type Role } from '../../shared/utils/roles'
 import { findUnitIdsByPrefix, resolveUnit } from '../../server/repos/units'
 import { signIn, useTestServer } from '../support/app'
@@ -223,7 +222,9 @@ describe('the test certificate', () => {
 
   it('answers 401 without a session, 404 for an unknown serial, 409 for a unit never tested', async () => {
     expect((await api(`/api/units/${serial}/certificate.pdf`, null)).status).toBe(401)
-    expect((await api('/api/units/NO-SUCH-UNIT-1/certificate.pdf', 'support')).status).toBe(404)
+    const unknown = await api('/api/units/NO-SUCH-UNIT-1/certificate.pdf', 'support')
+    expect(unknown.status).toBe(404)
+    expect(((await unknown.json()) as { data: { code: string } }).data.code).toBe('unit_not_found')
     const never = await api(`/api/units/${prefixed[0]}/certificate.pdf`, 'support')
     expect(never.status).toBe(409)
     expect(((await never.json()) as { data: { code: string } }).data.code).toBe('no_production_test')

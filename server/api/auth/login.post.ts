@@ -1,6 +1,6 @@
 // access: public
-import { getUserByEmail, normaliseEmail, recordLogin } from '../../repos/users'
-import { writeAudit } from '../../repos/audit'
+import { getUserByEmail, normaliseEmail } from '../../repos/users'
+import { noteSignIn, noteSignInRefused } from '../../services/sign-in'
 import { loginSchema } from '../../../shared/utils/sign-in'
 import type { MeResponse } from '../../../shared/types/api'
 
@@ -14,7 +14,7 @@ export default defineEventHandler(async (event) => {
   const wait = await signInRetryAfter(email, ip)
   if (wait > 0) {
     setResponseHeader(event, 'retry-after', wait)
-    throw httpError(429, 'sign_in_limited', `Too many failed sign-ins: try again in ${Math.ceil(wait / 60)} min`, { retryAfterS: wait })
+    throw new DomainError('sign_in_limited', `Too many failed sign-ins: try again in ${Math.ceil(wait / 60)} min`, { retryAfterS: wait })
   }
   const db = useDb()
   const row = await getUserByEmail(db, email)
@@ -24,14 +24,13 @@ export default defineEventHandler(async (event) => {
     await recordSignInFailure(email, ip)
     // The e-mail tried and why, never the password.
     const reason = !row ? 'unknown_email' : !ok ? 'wrong_password' : 'deactivated'
-    await writeAudit(db, { userId: null, action: 'auth.sign_in_failed', entity: 'user', entityId: row?.id ?? email, subject: email, ip, detail: { email, reason } })
+    await noteSignInRefused(db, { email, userId: row?.id ?? null, reason, ip })
     // One generic answer for every cause: it must not tell which e-mails exist.
-    throw httpError(401, 'invalid_credentials', 'Wrong e-mail or password')
+    throw new DomainError('invalid_credentials', 'Wrong e-mail or password')
   }
   await recordSignInSuccess(email)
   const user = { id: Number(row.id), email: row.email, displayName: row.display_name, role: row.role }
   await startSession(event, user)
-  await recordLogin(db, user.id)
-  await writeAudit(db, { userId: user.id, action: 'auth.sign_in', entity: 'user', entityId: user.id, subject: user.email, ip })
+  await noteSignIn(db, user, ip)
   return { user } satisfies MeResponse
 })

@@ -1,12 +1,12 @@
 // access: public (signing out without a session is harmless)
-import { writeAudit } from '../../repos/audit'
+import { noteSignOut } from '../../services/sign-in'
 
 export default defineEventHandler(async (event) => {
   const session = await getUserSession(event)
   await endSession(event)
   if (session.user) {
     const { id, email } = session.user
-    await writeAudit(useDb(), { userId: id, action: 'auth.sign_out', entity: 'user', entityId: id, subject: email, ip: clientAddress(event) })
+    await noteSignOut(useDb(), { id, email }, clientAddress(event))
   }
   return { ok: true }
 })

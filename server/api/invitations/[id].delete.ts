@@ -7,6 +7,6 @@ export default defineEventHandler(async (event) => {
   const actor = await requireActor(event, 'admin')
   const { id } = await getValidatedRouterParams(event, zodValidator(personIdParamSchema))
   const view = await withdrawInvitation(useDb(), actor, id)
-  if (!view) throw httpError(409, 'invitation_not_pending', `Invitation ${id} is not pending (used, expired, withdrawn or unknown)`)
+  if (!view) throw new DomainError('invitation_not_pending', `Invitation ${id} is not pending (used, expired, withdrawn or unknown)`)
   return view satisfies InvitationView
 })

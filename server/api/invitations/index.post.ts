@@ -6,9 +6,7 @@ import type { InvitationCreated } from '../../../shared/types/people'
 export default defineEventHandler(async (event) => {
   const actor = await requireActor(event, 'admin')
   const input = await readValidatedBody(event, zodValidator(inviteSchema))
-  const created = await invitePerson(useDb(), actor, input, publicOrigin(event)).catch((err: unknown) => {
-    throw toPeopleHttpError(err)
-  })
+  const created = await invitePerson(useDb(), actor, input, publicOrigin(event))
   setResponseStatus(event, 201)
   return created satisfies InvitationCreated
 })

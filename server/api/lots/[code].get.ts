@@ -6,6 +6,6 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'quality', 'engineer', 'support')
   const { code } = await getValidatedRouterParams(event, zodValidator(lotParamSchema))
   const report = await getLotReport(useDb(), code)
-  if (!report) throw httpError(404, 'unknown_lot', `No lot ${code}`)
+  if (!report) throw new DomainError('unknown_lot', `No lot ${code}`)
   return report satisfies LotReport
 })

@@ -6,6 +6,6 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const view = await getMaskView(useDb(), id)
-  if (!view) throw httpError(404, 'unknown_mask', `No mask ${id}`)
+  if (!view) throw new DomainError('unknown_mask', `No mask ${id}`)
   return view satisfies MaskView
 })

@@ -9,10 +9,6 @@ export default defineEventHandler(async (event) => {
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const patch = await readValidatedBody(event, zodValidator(maskPatchSchema))
   const db = useDb()
-  try {
-    await updateMaskDraft(db, id, patch)
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  await updateMaskDraft(db, id, patch)
   return (await getMaskView(db, id))! satisfies MaskView
 })

@@ -5,9 +5,5 @@ import type { MaskCandidate } from '../../../shared/types/api'
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'engineer')
   const q = await getValidatedQuery(event, zodValidator(candidatesQuerySchema))
-  try {
-    return (await listCandidates(useDb(), q.product, q.limit)) satisfies MaskCandidate[]
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  return (await listCandidates(useDb(), q.product, q.limit)) satisfies MaskCandidate[]
 })

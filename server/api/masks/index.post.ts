@@ -6,11 +6,7 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
   const input = await readValidatedBody(event, zodValidator(maskCreateSchema))
   const db = useDb()
-  try {
-    const id = await createMaskFromGolden(db, input, user.id)
-    setResponseStatus(event, 201)
-    return (await getMaskView(db, id))! satisfies MaskView
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const id = await createMaskFromGolden(db, input, user.id)
+  setResponseStatus(event, 201)
+  return (await getMaskView(db, id))! satisfies MaskView
 })

@@ -9,8 +9,6 @@ export default defineEventHandler(async (event) => {
   const { id } = await getValidatedRouterParams(event, zodValidator(personIdParamSchema))
   const patch = await readValidatedBody(event, zodValidator(personPatchSchema))
   const db = useDb()
-  await changePerson(db, actor, id, patch).catch((err: unknown) => {
-    throw toPeopleHttpError(err)
-  })
+  await changePerson(db, actor, id, patch)
   return (await listPeople(db)).find((p) => p.id === id)! satisfies PersonView
 })

@@ -5,6 +5,6 @@ export default defineEventHandler(async (event) => {
   await requireRole(event)
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
   const product = await getProductByCode(useDb(), code)
-  if (!product) throw httpError(404, 'unknown_product', `No product ${code}`)
+  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
   return product satisfies ProductListItem
 })

@@ -6,11 +6,7 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'engineer')
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
   const changes = await readValidatedBody(event, zodValidator(productPatchSchema))
-  try {
-    const product = await updateProduct(useDb(), code, changes)
-    if (!product) throw httpError(404, 'unknown_product', `No product ${code}`)
-    return product satisfies ProductListItem
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const product = await updateProduct(useDb(), code, changes)
+  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
+  return product satisfies ProductListItem
 })

@@ -6,11 +6,7 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'engineer')
   const body = await readValidatedBody(event, zodValidator(productCreateSchema))
   const db = useDb()
-  try {
-    const id = await createProduct(db, body)
-    setResponseStatus(event, 201)
-    return (await getProductById(db, id))! satisfies ProductListItem
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const id = await createProduct(db, body)
+  setResponseStatus(event, 201)
+  return (await getProductById(db, id))! satisfies ProductListItem
 })

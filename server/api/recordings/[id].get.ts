@@ -9,7 +9,7 @@ export default defineEventHandler(async (event) => {
   const { include } = await getValidatedQuery(event, zodValidator(curvesQuerySchema))
   const view = await getRecordingView(useDb(), id, { curves: include === 'curves' })
   if (!view || (caller.kind === 'station' && view.stationId !== caller.station.id)) {
-    throw httpError(404, 'not_found', `No recording ${id}`)
+    throw new DomainError('not_found', `No recording ${id}`)
   }
   return view satisfies RecordingView
 })

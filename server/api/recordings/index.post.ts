@@ -8,10 +8,10 @@ export default defineEventHandler(async (event) => {
   const { fields, file } = await readMultipartUpload(event)
   try {
     const input = parseInput(uploadFieldsSchema, fields)
-    if (!file) throw httpError(400, 'missing_file', 'Attach the recording in a form field named "file"')
+    if (!file) throw new DomainError('missing_file', 'Attach the recording in a form field named "file"')
     const tokenStation = caller.kind === 'station' ? caller.station : undefined
     if (tokenStation && input.station !== undefined && input.station !== tokenStation.id) {
-      throw httpError(403, 'wrong_station', 'This token belongs to another station')
+      throw new DomainError('wrong_station', 'This token belongs to another station')
     }
     const station = tokenStation ?? (await chosenStation(input.station))
     const outcome = await acceptUpload(useDb(), useRecordingStorage(), await useBoss(), {
@@ -23,8 +23,6 @@ export default defineEventHandler(async (event) => {
     })
     setResponseStatus(event, outcome.duplicate ? 200 : 202)
     return outcome satisfies UploadAccepted
-  } catch (err) {
-    throw toHttpError(err)
   } finally {
     if (file) await rm(file.path, { force: true })
   }

@@ -8,9 +8,5 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'admin')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const change = await readValidatedBody(event, zodValidator(returnCategoryPatchSchema))
-  try {
-    return (await editReturnCategory(useDb(), id, change, user.id)) satisfies ReturnCategoryView
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  return (await editReturnCategory(useDb(), id, change, user.id)) satisfies ReturnCategoryView
 })

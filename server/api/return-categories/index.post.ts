@@ -5,11 +5,7 @@ import type { ReturnCategoryView } from '../../../shared/types/returns'
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'admin')
   const input = await readValidatedBody(event, zodValidator(returnCategoryCreateSchema))
-  try {
-    const created = await addReturnCategory(useDb(), input, user.id)
-    setResponseStatus(event, 201)
-    return created satisfies ReturnCategoryView
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const created = await addReturnCategory(useDb(), input, user.id)
+  setResponseStatus(event, 201)
+  return created satisfies ReturnCategoryView
 })

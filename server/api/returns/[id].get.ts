@@ -5,9 +5,5 @@ import type { ReturnView } from '../../../shared/types/returns'
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'support', 'quality', 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
-  try {
-    return (await getReturn(useDb(), id)) satisfies ReturnView
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  return (await getReturn(useDb(), id)) satisfies ReturnView
 })

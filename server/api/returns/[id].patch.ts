@@ -8,9 +8,5 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'support', 'quality')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const change = await readValidatedBody(event, zodValidator(returnPatchSchema))
-  try {
-    return (await editReturn(useDb(), id, change, user.id)) satisfies ReturnView
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  return (await editReturn(useDb(), id, change, user.id)) satisfies ReturnView
 })

@@ -5,11 +5,7 @@ import type { ReturnView } from '../../../shared/types/returns'
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'support', 'quality')
   const input = await readValidatedBody(event, zodValidator(returnCreateSchema))
-  try {
-    const created = await registerReturn(useDb(), input, user.id)
-    setResponseStatus(event, 201)
-    return created satisfies ReturnView
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const created = await registerReturn(useDb(), input, user.id)
+  setResponseStatus(event, 201)
+  return created satisfies ReturnView
 })

@@ -10,11 +10,11 @@ const querySchema = z.object({ format: z.enum(['json', 'raw']).default('json') }
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'admin')
   const dir = activeMailboxDir()
-  if (!dir) throw httpError(404, 'mailbox_off', 'Mail goes to a real SMTP server: there is no local mailbox')
+  if (!dir) throw new DomainError('mailbox_off', 'Mail goes to a real SMTP server: there is no local mailbox')
   const { id } = await getValidatedRouterParams(event, zodValidator(paramsSchema))
   const { format } = await getValidatedQuery(event, zodValidator(querySchema))
   const message = await getMailboxMessage(dir, id)
-  if (!message) throw httpError(404, 'unknown_message', `No message ${id} in the mailbox`)
+  if (!message) throw new DomainError('unknown_message', `No message ${id} in the mailbox`)
   if (format === 'raw') {
     setResponseHeader(event, 'content-type', 'message/rfc822; charset=utf-8')
     setResponseHeader(event, 'content-disposition', `inline; filename="${id}.eml"`)

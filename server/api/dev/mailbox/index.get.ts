@@ -6,6 +6,6 @@ import type { MailboxList } from '../../../../shared/types/mail'
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'admin')
   const dir = activeMailboxDir()
-  if (!dir) throw httpError(404, 'mailbox_off', 'Mail goes to a real SMTP server: there is no local mailbox')
+  if (!dir) throw new DomainError('mailbox_off', 'Mail goes to a real SMTP server: there is no local mailbox')
   return { dir, messages: await listMailbox(dir) } satisfies MailboxList
 })

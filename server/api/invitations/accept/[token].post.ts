@@ -11,9 +11,7 @@ export default defineEventHandler(async (event) => {
   const { token } = await getValidatedRouterParams(event, zodValidator(invitationTokenParamSchema))
   const input = await readValidatedBody(event, zodValidator(acceptInvitationSchema))
   const passwordHash = await hashPassword(input.password)
-  const joined = await joinByInvitation(useDb(), token, { displayName: input.displayName, passwordHash }, clientAddress(event)).catch((err: unknown) => {
-    throw toPeopleHttpError(err)
-  })
+  const joined = await joinByInvitation(useDb(), token, { displayName: input.displayName, passwordHash }, clientAddress(event))
   setResponseStatus(event, 201)
   return { email: joined.email, role: joined.role }
 })

@@ -8,6 +8,6 @@ export default defineEventHandler(async (event) => {
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const { last } = await getValidatedQuery(event, zodValidator(previewQuerySchema))
   const preview = await previewMask(useDb(), id, last)
-  if (!preview) throw httpError(404, 'unknown_mask', `No mask ${id}`)
+  if (!preview) throw new DomainError('unknown_mask', `No mask ${id}`)
   return preview satisfies MaskPreview
 })

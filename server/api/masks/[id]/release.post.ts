@@ -7,10 +7,6 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const { comment } = await readValidatedBody(event, zodValidator(maskReleaseSchema))
-  try {
-    const { version, judgedUnjudged } = await releaseAndJudge(useDb(), id, user.id, comment)
-    return { id, version, status: 'released', judgedUnjudged } satisfies MaskTransition
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const { version, judgedUnjudged } = await releaseAndJudge(useDb(), id, user.id, comment)
+  return { id, version, status: 'released', judgedUnjudged } satisfies MaskTransition
 })

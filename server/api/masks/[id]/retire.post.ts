@@ -1,4 +1,4 @@
-import { retireMask } from '../../../repos/masks'
+import { retireMask } from '../../../services/masks'
 import { idParamSchema } from '../../../../shared/utils/ids'
 import { maskRetireSchema } from '../../../../shared/utils/mask'
 import type { MaskTransition } from '../../../../shared/types/api'
@@ -7,10 +7,6 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const { comment } = await readValidatedBody(event, zodValidator(maskRetireSchema))
-  try {
-    const { version } = await retireMask(useDb(), id, user.id, comment ?? null)
-    return { id, version, status: 'retired' } satisfies MaskTransition
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const { version } = await retireMask(useDb(), id, user.id, comment ?? null)
+  return { id, version, status: 'retired' } satisfies MaskTransition
 })

@@ -8,6 +8,6 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'quality', 'engineer')
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
   const product = await getProductByCode(useDb(), code)
-  if (!product) throw httpError(404, 'unknown_product', `No product ${code}`)
+  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
   return (await getAlerting(useDb(), product.id)) satisfies AlertingView
 })

@@ -9,6 +9,6 @@ export default defineEventHandler(async (event) => {
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
   const input = await readValidatedBody(event, zodValidator(alertingSchema))
   const product = await getProductByCode(useDb(), code)
-  if (!product) throw httpError(404, 'unknown_product', `No product ${code}`)
+  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
   return (await setAlerting(useDb(), product.id, input, user.id)) satisfies AlertingView
 })

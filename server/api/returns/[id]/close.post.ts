@@ -8,9 +8,5 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'support', 'quality')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const input = await readValidatedBody(event, zodValidator(returnCloseSchema))
-  try {
-    return (await closeReturn(useDb(), id, input, user.id)) satisfies ReturnView
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  return (await closeReturn(useDb(), id, input, user.id)) satisfies ReturnView
 })

@@ -5,9 +5,5 @@ import type { ReturnComparison } from '../../../../shared/types/returns'
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'support', 'quality', 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
-  try {
-    return (await compareReturn(useDb(), id)) satisfies ReturnComparison
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  return (await compareReturn(useDb(), id)) satisfies ReturnComparison
 })

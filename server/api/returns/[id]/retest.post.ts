@@ -11,7 +11,7 @@ export default defineEventHandler(async (event) => {
   const { fields, file } = await readMultipartUpload(event)
   try {
     const input = parseInput(returnRetestFieldsSchema, fields)
-    if (!file) throw httpError(400, 'missing_file', 'Attach the recording in a form field named "file"')
+    if (!file) throw new DomainError('missing_file', 'Attach the recording in a form field named "file"')
     const station = await chosenStation(input.station)
     const outcome = await retestReturn(useDb(), useRecordingStorage(), await useBoss(), id, {
       tempPath: file.path,
@@ -22,8 +22,6 @@ export default defineEventHandler(async (event) => {
     })
     setResponseStatus(event, outcome.duplicate ? 200 : 202)
     return outcome satisfies UploadAccepted
-  } catch (err) {
-    throw toHttpError(err)
   } finally {
     if (file) await rm(file.path, { force: true })
   }

@@ -1,4 +1,4 @@
-import { rotateStationToken } from '../../../repos/stations'
+import { rotateStationToken } from '../../../services/stations'
 import { idParamSchema } from '../../../../shared/utils/ids'
 import type { StationToken } from '../../../../shared/types/api'
 
@@ -6,6 +6,6 @@ export default defineEventHandler(async (event) => {
   const actor = await requireActor(event, 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const token = await rotateStationToken(useDb(), id, { userId: actor.id, ip: actor.ip })
-  if (!token) throw httpError(404, 'not_found', `No station ${id}`)
+  if (!token) throw new DomainError('not_found', `No station ${id}`)
   return { id, token } satisfies StationToken
 })

@@ -1,4 +1,4 @@
-import { CertificateError, downloadCertificate } from '../../../services/units'
+import { downloadCertificate } from '../../../services/units'
 import { serialParamSchema } from '../../../../shared/utils/ids'
 import { CERTIFICATE_ROLES } from '../../../../shared/utils/units'
 
@@ -6,13 +6,8 @@ import { CERTIFICATE_ROLES } from '../../../../shared/utils/units'
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, ...CERTIFICATE_ROLES)
   const { serial } = await getValidatedRouterParams(event, zodValidator(serialParamSchema))
-  try {
-    const { pdf, filename } = await downloadCertificate(useDb(), serial, user)
-    setResponseHeader(event, 'content-type', 'application/pdf')
-    setResponseHeader(event, 'content-disposition', `attachment; filename="${filename}"`)
-    return pdf
-  } catch (err) {
-    if (err instanceof CertificateError) throw httpError(err.status, err.code, err.message)
-    throw err
-  }
+  const { pdf, filename } = await downloadCertificate(useDb(), serial, user)
+  setResponseHeader(event, 'content-type', 'application/pdf')
+  setResponseHeader(event, 'content-disposition', `attachment; filename="${filename}"`)
+  return pdf
 })

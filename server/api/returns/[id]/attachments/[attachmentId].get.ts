@@ -6,15 +6,11 @@ import { returnAttachmentParamSchema, returnSafeFileName } from '../../../../../
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'support', 'quality', 'engineer')
   const { id, attachmentId } = await getValidatedRouterParams(event, zodValidator(returnAttachmentParamSchema))
-  try {
-    const { view, bytes } = await readReturnAttachment(useDb(), useAttachmentStorage(), id, attachmentId)
-    const name = returnSafeFileName(view.originalName, `attachment-${view.id}`)
-    setResponseHeader(event, 'content-type', view.contentType)
-    setResponseHeader(event, 'content-disposition', `attachment; filename="${name}"; filename*=UTF-8''${encodeURIComponent(name)}`)
-    setResponseHeader(event, 'x-content-type-options', 'nosniff')
-    setResponseHeader(event, 'cache-control', 'private, no-store')
-    return bytes
-  } catch (err) {
-    throw toHttpError(err)
-  }
+  const { view, bytes } = await readReturnAttachment(useDb(), useAttachmentStorage(), id, attachmentId)
+  const name = returnSafeFileName(view.originalName, `attachment-${view.id}`)
+  setResponseHeader(event, 'content-type', view.contentType)
+  setResponseHeader(event, 'content-disposition', `attachment; filename="${name}"; filename*=UTF-8''${encodeURIComponent(name)}`)
+  setResponseHeader(event, 'x-content-type-options', 'nosniff')
+  setResponseHeader(event, 'cache-control', 'private, no-store')
+  return bytes
 })

@@ -10,12 +10,10 @@ export default defineEventHandler(async (event) => {
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const { file } = await readMultipartUpload(event, { maxBytes: maxAttachmentBytes() })
   try {
-    if (!file) throw httpError(400, 'missing_file', 'Attach the photo or document in a form field named "file"')
+    if (!file) throw new DomainError('missing_file', 'Attach the photo or document in a form field named "file"')
     const added = await addReturnAttachment(useDb(), useAttachmentStorage(), id, file, user.id)
     setResponseStatus(event, 201)
     return added satisfies ReturnAttachmentView
-  } catch (err) {
-    throw toHttpError(err)
   } finally {
     if (file) await rm(file.path, { force: true })
   }
