@@ -7,7 +7,7 @@ import { createHash, randomUUID } from 'node:crypto'
 import { mkdir, rm, writeFile } from 'node:fs/promises'
 import { join } from 'node:path'
 import type { Knex } from 'knex'
-import { writeAudit } from '../server/repos/audit.ts'
+import { recordAudit } from '../server/services/audit.ts'
 import { insertRecording } from '../server/repos/recordings.ts'
 import { closeReturnRow, insertReturn } from '../server/repos/returns.ts'
 import { processRecording } from '../server/services/analyse.ts'
@@ -79,7 +79,7 @@ export async function seed(knex: Knex): Promise<void> {
       }
       if (r.close) {
         await closeReturnRow(knex, returnId, { disposition: r.close.disposition, cause: r.close.cause ?? null, causeClass: r.close.causeClass ?? null, note: r.close.note ?? null, closedBy: support })
-        await writeAudit(knex, { userId: support, action: 'return.close', entity: 'return', entityId: returnId, comment: r.close.note ?? null, detail: { serial: r.serial, disposition: r.close.disposition } })
+        await recordAudit(knex, { userId: support, action: 'return.close', entity: 'return', entityId: returnId, comment: r.close.note ?? null, detail: { serial: r.serial, disposition: r.close.disposition } })
       }
     }
     console.log(`[seed] demo returns: ${demo.length}`)

@@ -15,8 +15,11 @@ export interface AuditEntry {
   subject?: string | null
 }
 
-/** Appends one entry to the audit log (the table refuses changes and deletions). */
-export async function writeAudit(db: Knex, e: AuditEntry): Promise<void> {
+/**
+ * Appends one entry to the audit log (the table refuses changes and deletions). Services call it
+ * through `recordAudit` (server/services/audit.ts), the one place audit rows are written from.
+ */
+export async function insertAuditEntry(db: Knex, e: AuditEntry): Promise<void> {
   await db('audit_log').insert({
     user_id: e.userId,
     action: e.action,

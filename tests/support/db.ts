@@ -2,7 +2,7 @@ import knex, { type Knex } from 'knex'
 import { inject } from 'vitest'
 import { DEFAULT_PROFILE, type StationProfile } from '../../server/analysis/index'
 import { createProduct, getProductByCode } from '../../server/repos/products'
-import { createStation } from '../../server/repos/stations'
+import { createStation } from '../../server/services/stations'
 import { createMaskDraft, releaseMask } from '../../server/repos/masks'
 import type { MaskLimitsInput } from '../../shared/utils/mask'
 
