@@ -164,9 +164,6 @@ export interface ReleasedMask {
   /** For the audit entry: the product's code and the mask this one replaced (null: none was active). */
   productCode: string
   replaced: number | null
-  /** For the audit entry: the product's code and the mask this one replaced (null: none was active). */
-  productCode: string
-  replaced: number | null
   /** The mask as it now judges the product, for the caller's work in the same transaction. */
   mask: ActiveMask
 }

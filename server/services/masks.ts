@@ -109,20 +109,7 @@ export function releaseAndJudge(db: Knex, maskId: number, by: number | null, com
   return db.transaction(async (trx) => {
     const released = await releaseMask(trx, maskId, { by, comment, at })
     await recordAudit(trx, { userId: by, action: 'mask.release', entity: 'mask', entityId: maskId, comment, detail: { product: released.productCode, version: released.version, replaced: released.replaced } })
-    await recordAudit(trx, { userId: by, action: 'mask.release', entity: 'mask', entityId: maskId, comment, detail: { product: released.productCode, version: released.version, replaced: released.replaced } })
     return { version: released.version, judgedUnjudged: await judgeUnjudged(trx, released.mask, released.productId) }
-  })
-}
-
-/**
- * Retires a released mask and audits it, in one transaction: the product then has no active mask.
- * @throws MaskStateError `mask_not_released`.
- */
-export function retireMask(db: Knex, maskId: number, by: number | null, comment: string | null): Promise<{ version: number }> {
-  return db.transaction(async (trx) => {
-    const retired = await retireReleasedMask(trx, maskId, by, comment)
-    await recordAudit(trx, { userId: by, action: 'mask.retire', entity: 'mask', entityId: maskId, comment, detail: { version: retired.version } })
-    return retired
   })
 }
 
