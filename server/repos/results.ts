@@ -1,6 +1,7 @@
 import type { Knex } from 'knex'
 import type { AnalysisResult } from '../analysis/index.ts'
-import type { Judgement } from '../verdict/judge.ts'
+import type { CheckView } from '../../shared/types/api.ts'
+import type { Verdict } from '../../shared/utils/verdict.ts'
 
 export interface NewResult {
   recordingId: number
@@ -8,8 +9,20 @@ export interface NewResult {
   analysis: AnalysisResult
 }
 
-/** Decides the verdict inside the saving transaction (so a mask released meanwhile cannot be missed). */
-export type DecideVerdict = (trx: Knex.Transaction) => Promise<{ maskId: number; judgement: Judgement } | null>
+/**
+ * A verdict as it is stored with a result: decided by the caller (the judge, in a service), never
+ * here. A judge's Judgement fits this shape, so services pass it on as it is.
+ */
+export interface StoredJudgement {
+  verdict: Verdict
+  checks: CheckView[]
+  unmeasured: string[]
+}
+
+/** The mask that judged a new result, and what it found. */
+export interface VerdictToStore extends StoredJudgement {
+  maskId: number
+}
 
 const CURVE_DIGITS = 5
 
@@ -18,59 +31,60 @@ function compact(a: (number | null)[] | null): (number | null)[] | null {
   return a ? a.map((v) => (v === null || !Number.isFinite(v) ? null : Number(v.toPrecision(CURVE_DIGITS)))) : null
 }
 
-/** Stores one analysed recording as a result and marks the recording done, in one transaction. Idempotent per recording. */
-export async function saveResult(db: Knex, r: NewResult, decide: DecideVerdict): Promise<number> {
+/**
+ * Stores one analysed recording as a result, with the verdict its caller decided (null: no released
+ * mask), and marks the recording done. It takes the caller's transaction, so the verdict is stored
+ * under the same product lock it was decided under. Idempotent per recording: a second save keeps
+ * the first result (one result per recording) and answers its id.
+ */
+export async function saveResult(trx: Knex.Transaction, r: NewResult, j: VerdictToStore | null): Promise<number> {
   const { analysis: a } = r
   const p = a.parameters
-  return db.transaction(async (trx) => {
-    const decision = await decide(trx)
-    const j = decision?.judgement ?? null
-    const inserted = await trx('results')
-      .insert({
-        recording_id: r.recordingId,
-        unit_id: r.unitId,
-        kind: a.kind,
-        mask_id: decision?.maskId ?? null,
-        verdict: j?.verdict ?? null,
-        checks: j ? JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured }) : null,
-        judged_at: j ? trx.fn.now() : null,
-        re_ohm: p.reOhm,
-        re20_ohm: p.re20Ohm,
-        ambient_c: p.ambientC,
-        fs_hz: p.fsHz,
-        qms: p.qms,
-        qes: p.qes,
-        qts: p.qts,
-        le_mh: p.leMh,
-        zmax_ohm: p.zmaxOhm,
-        zmin_ohm: p.zminOhm,
-        sensitivity_db: p.sensitivityDb,
-        thd_pct: p.thdPct,
-        thd_max_pct: p.thdMaxPct,
-        rub_buzz_db: p.rubBuzzDb,
-        fit_error_pct: p.fitErrorPct,
-        polarity: a.flags.polarity,
-        open_coil: a.flags.openCoil,
-        shorted_coil: a.flags.shortedCoil,
-        flags: JSON.stringify(a.flags),
-        parameters: JSON.stringify({ ...p, unmeasured: a.unmeasured, notes: a.notes, thdAt: a.thdAt }),
-        classical: a.classical ? JSON.stringify(a.classical) : null,
-        curve_freq_hz: compact(a.curves.freqHz),
-        curve_spl_db: compact(a.curves.splDb),
-        curve_spl_phase_deg: compact(a.curves.splPhaseDeg),
-        curve_impedance_ohm: compact(a.curves.impedanceOhm),
-        curve_impedance_phase_deg: compact(a.curves.impedancePhaseDeg),
-        curve_thd_pct: compact(a.curves.thdPct),
-        engine_version: a.engineVersion,
-        timings_ms: JSON.stringify(a.timingsMs),
-      })
-      .onConflict('recording_id')
-      .ignore()
-      .returning('id')
-    await trx('recordings').where({ id: r.recordingId }).update({ status: 'done', error_code: null, error_message: null, finished_at: trx.fn.now() })
-    if (inserted.length) return Number(inserted[0].id)
-    return Number((await trx('results').where({ recording_id: r.recordingId }).first('id')).id)
-  })
+  const inserted = await trx('results')
+    .insert({
+      recording_id: r.recordingId,
+      unit_id: r.unitId,
+      kind: a.kind,
+      mask_id: j?.maskId ?? null,
+      verdict: j?.verdict ?? null,
+      checks: j ? JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured }) : null,
+      judged_at: j ? trx.fn.now() : null,
+      re_ohm: p.reOhm,
+      re20_ohm: p.re20Ohm,
+      ambient_c: p.ambientC,
+      fs_hz: p.fsHz,
+      qms: p.qms,
+      qes: p.qes,
+      qts: p.qts,
+      le_mh: p.leMh,
+      zmax_ohm: p.zmaxOhm,
+      zmin_ohm: p.zminOhm,
+      sensitivity_db: p.sensitivityDb,
+      thd_pct: p.thdPct,
+      thd_max_pct: p.thdMaxPct,
+      rub_buzz_db: p.rubBuzzDb,
+      fit_error_pct: p.fitErrorPct,
+      polarity: a.flags.polarity,
+      open_coil: a.flags.openCoil,
+      shorted_coil: a.flags.shortedCoil,
+      flags: JSON.stringify(a.flags),
+      parameters: JSON.stringify({ ...p, unmeasured: a.unmeasured, notes: a.notes, thdAt: a.thdAt }),
+      classical: a.classical ? JSON.stringify(a.classical) : null,
+      curve_freq_hz: compact(a.curves.freqHz),
+      curve_spl_db: compact(a.curves.splDb),
+      curve_spl_phase_deg: compact(a.curves.splPhaseDeg),
+      curve_impedance_ohm: compact(a.curves.impedanceOhm),
+      curve_impedance_phase_deg: compact(a.curves.impedancePhaseDeg),
+      curve_thd_pct: compact(a.curves.thdPct),
+      engine_version: a.engineVersion,
+      timings_ms: JSON.stringify(a.timingsMs),
+    })
+    .onConflict('recording_id')
+    .ignore()
+    .returning('id')
+  await trx('recordings').where({ id: r.recordingId }).update({ status: 'done', error_code: null, error_message: null, finished_at: trx.fn.now() })
+  if (inserted.length) return Number(inserted[0].id)
+  return Number((await trx('results').where({ recording_id: r.recordingId }).first('id')).id)
 }
 
 /** A stored result in the shape the judge and the mask proposal read. */
@@ -80,7 +94,7 @@ export interface StoredResult {
   unitId: number
   serial: string
   kind: 'sweep' | 'impedance_table'
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
   uploadedAt: Date
   parameters: AnalysisResult['parameters']
   flags: AnalysisResult['flags']
@@ -98,7 +112,7 @@ interface StoredRow {
   unit_id: string
   serial: string
   kind: 'sweep' | 'impedance_table'
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
   uploaded_at: Date
   parameters: AnalysisResult['parameters']
   flags: AnalysisResult['flags']
@@ -155,7 +169,7 @@ export async function listLatestPerUnit(db: Knex, productId: number, limit: numb
 }
 
 /** Writes the first verdict of a result that no mask had judged (the results guard allows exactly this). */
-export async function setFirstVerdict(db: Knex, resultId: number, maskId: number, j: Judgement): Promise<void> {
+export async function setFirstVerdict(db: Knex, resultId: number, maskId: number, j: StoredJudgement): Promise<void> {
   await db('results')
     .where({ id: resultId })
     .whereNull('verdict')

@@ -1,27 +1,26 @@
 import type { Knex } from 'knex'
 import { analyzeImpedanceTable, analyzeRecording, AnalysisInputError, type AnalysisResult } from '../analysis/index.ts'
 import { getActiveMask } from '../repos/masks.ts'
-import { getRecording, markAnalysing, markFinishedWithError } from '../repos/recordings.ts'
+import { getRecording, markFinishedWithError } from '../repos/recordings.ts'
 import { saveResult } from '../repos/results.ts'
 import { getProfileVersion } from '../repos/stations.ts'
 import { getProductById } from '../repos/products.ts'
 import { getUnitById } from '../repos/units.ts'
 import type { RecordingStorage } from '../storage/recordings.ts'
-import { RETRY_LIMIT } from '../queue/index.ts'
+import { claimAttempt, MAX_ATTEMPTS } from '../queue/retries.ts'
 import { judge } from '../verdict/judge.ts'
 
 export type ProcessOutcome = 'done' | 'rejected' | 'skipped'
 
-/** One try plus the queue's retries. */
-const MAX_ATTEMPTS = RETRY_LIMIT + 1
-
 /**
  * Analyses one stored recording and saves its result, judged by the product's released mask when
- * there is one. Idempotent: a recording already finished is skipped. Input the engine refuses ends
- * `rejected` (retrying cannot help); other errors are thrown so the queue retries them.
+ * there is one: the engine measures, the judge decides, the results repo only stores. Idempotent: a
+ * recording already finished is skipped, and a save repeated after a crash keeps the first result.
+ * Input the engine refuses ends `rejected` (retrying cannot help); other errors are thrown so the
+ * queue retries them.
  */
 export async function processRecording(db: Knex, storage: RecordingStorage, recordingId: number, maxAttempts = MAX_ATTEMPTS): Promise<ProcessOutcome> {
-  if (!(await markAnalysing(db, recordingId, maxAttempts))) return 'skipped'
+  if (!(await claimAttempt(db, recordingId, maxAttempts))) return 'skipped'
   const rec = (await getRecording(db, recordingId))!
   const unit = (await getUnitById(db, Number(rec.unit_id)))!
   const product = (await getProductById(db, Number(unit.product_id)))!
@@ -43,9 +42,13 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
     }
     throw err
   }
-  await saveResult(db, { recordingId, unitId: Number(rec.unit_id), analysis }, async (trx) => {
+  // Decide, then store, in one transaction holding the product row's share lock: a mask release
+  // (which locks that row for update) either committed before and judges here, or waits for this
+  // commit and then finds the result unjudged. A result can never miss the mask either way.
+  await db.transaction(async (trx) => {
     const mask = await getActiveMask(trx, product.id, { lockProduct: true })
-    return mask ? { maskId: mask.id, judgement: judge(analysis, mask.limits, product.ratedImpedanceOhm) } : null
+    const verdict = mask ? { maskId: mask.id, ...judge(analysis, mask.limits, product.ratedImpedanceOhm) } : null
+    await saveResult(trx, { recordingId, unitId: Number(rec.unit_id), analysis }, verdict)
   })
   return 'done'
 }

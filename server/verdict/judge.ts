@@ -2,12 +2,13 @@ import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analy
 import { RATED_IMPEDANCE_MIN_FRACTION } from '../analysis/index.ts'
 import { CHECK_LABELS, SCALAR_LIMIT_NAMES, figureValue, limitAtHz, type MaskLimits } from '../../shared/utils/mask.ts'
 import type { CheckView } from '../../shared/types/api.ts'
+import type { Verdict } from '../../shared/utils/verdict.ts'
 
 /** One limit applied to one figure or curve (glossary: check). */
 export type Check = CheckView
 
 export interface Judgement {
-  verdict: 'pass' | 'fail'
+  verdict: Verdict
   checks: Check[]
   /** Checks the mask holds that this result's data cannot show (e.g. acoustic checks on an impedance table). */
   unmeasured: string[]
@@ -85,4 +86,9 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
     else unmeasured.push(name)
   }
   return { verdict: checks.every((c) => c.pass) ? 'pass' : 'fail', checks, unmeasured }
+}
+
+/** The names of the checks a judgement failed, in the order the judge applied them. */
+export function failedCheckNames(j: Judgement): string[] {
+  return j.checks.filter((c) => !c.pass).map((c) => c.name)
 }

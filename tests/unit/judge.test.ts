@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest'
-import { judge, type Judgeable } from '../../server/verdict/judge'
+import { failedCheckNames, judge, type Judgeable } from '../../server/verdict/judge'
+import { maskOpinion } from '../../server/services/current-mask'
 import { figureValue, maskLimitsSchema } from '../../shared/utils/mask'
 
 // A hand-made result: every figure written out, a THD curve with its peak at 200 Hz.
@@ -56,5 +57,39 @@ describe('judge', () => {
     const j = judge(table, limits, 8)
     expect(j.unmeasured.sort()).toEqual(['polarity', 'splDb', 'thdMaxPct'])
     expect(j.verdict).toBe('pass')
+  })
+})
+
+describe('what the current mask says of stored results', () => {
+  const v1 = maskLimitsSchema.parse({ scalars: { fsHz: { low: 38, high: 46 } } })
+  // A later mask tightens Fs and THD: the same stored result now fails both.
+  const v2 = maskLimitsSchema.parse({ scalars: { fsHz: { low: 30, high: 40 }, thdMaxPct: { low: null, high: 1 } } })
+
+  it('names the failed checks in the order the judge applied them', () => {
+    expect(failedCheckNames(judge(result, v1, 8))).toEqual([])
+    expect(failedCheckNames(judge(result, v2, 8))).toEqual(['fsHz', 'thdMaxPct'])
+    // The fixed rule fails first when the rated impedance is too high for the measured minimum.
+    expect(failedCheckNames(judge(result, v2, 10))).toEqual(['ratedImpedance', 'fsHz', 'thdMaxPct'])
+  })
+
+  it('re-judges each result with the given mask, keyed by recording, and leaves the input as it was', () => {
+    const stored = [
+      { ...result, recordingId: 11 },
+      { ...result, recordingId: 12, parameters: { ...result.parameters, fsHz: 39, thdMaxPct: 0.5 } },
+    ]
+    const before = structuredClone(stored)
+    expect(maskOpinion({ version: 2, limits: v2 }, 8, stored)).toEqual({
+      version: 2,
+      results: [
+        { recordingId: 11, verdict: 'fail', failedChecks: ['fsHz', 'thdMaxPct'] },
+        { recordingId: 12, verdict: 'pass', failedChecks: [] },
+      ],
+    })
+    expect(maskOpinion({ version: 1, limits: v1 }, 8, stored).results.map((r) => r.verdict)).toEqual(['pass', 'pass'])
+    expect(stored).toEqual(before)
+  })
+
+  it('answers an empty list for a unit without results', () => {
+    expect(maskOpinion({ version: 3, limits: v1 }, 8, [])).toEqual({ version: 3, results: [] })
   })
 })
