@@ -13,7 +13,8 @@ import type PgBoss from 'pg-boss'
 import { knexConfig } from '../knexfile'
 import { loadConfig } from '../server/utils/config'
 import { ANALYSE_QUEUE, createBoss, ensureQueue, type AnalyseJob } from '../server/queue/index'
-import { failOrphanedRecordings, getRecording, markFinishedWithError } from '../server/repos/recordings'
+import { getRecording } from '../server/repos/recordings'
+import { failForGood, failRecordingsWithoutJob, isLastTry, ORPHAN_SWEEP_MS } from '../server/queue/retries'
 import { processRecording } from '../server/services/analyse'
 import { evaluateAlerts } from '../server/services/alerts'
 import { directoryStorage } from '../server/storage/recordings'
@@ -21,8 +22,6 @@ import { isDatabaseUnavailable } from '../server/utils/db'
 
 /** Jobs fetched per poll: pg-boss waits its polling interval between fetches, so one job a fetch would cap throughput. */
 const BATCH_SIZE = 8
-/** How often a worker looks for recordings whose job the queue gave up on. */
-const ORPHAN_SWEEP_MS = 60_000
 
 /**
  * Points where a test entry (tests/support/worker-entry.ts) can stall the worker, so a test can
@@ -66,8 +65,8 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
         log(`recording ${id}: database unreachable, the job will be retried: ${message}`)
         throw err
       }
-      if (job.retryCount >= job.retryLimit) {
-        await markFinishedWithError(db, id, 'failed', 'analysis_failed', message)
+      if (isLastTry(job)) {
+        await failForGood(db, id, message)
         log(`recording ${id}: failed for good after ${job.retryCount + 1} tries: ${message}`)
         return
       }
@@ -90,7 +89,7 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
 
   async function sweepOrphans() {
     try {
-      const n = await failOrphanedRecordings(db, ANALYSE_QUEUE)
+      const n = await failRecordingsWithoutJob(db, ANALYSE_QUEUE)
       if (n) log(`${n} recording(s) whose analysis stopped for good marked failed`)
     } catch (err) {
       log(`orphan sweep: ${err instanceof Error ? err.message : String(err)}`)

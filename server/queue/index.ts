@@ -1,5 +1,6 @@
 import type { Knex } from 'knex'
 import PgBoss from 'pg-boss'
+import { jobExpirySeconds, queueRetryPolicy } from './retries'
 
 /** The one queue: analyse an accepted recording. Jobs carry only the recording id (idempotent). */
 export const ANALYSE_QUEUE = 'analyse-recording'
@@ -8,18 +9,12 @@ export interface AnalyseJob {
   recordingId: number
 }
 
-/** Retry policy: a few tries with exponential backoff, then the recording ends `failed`. */
-export const RETRY_LIMIT = 3
+// The retry policy and its accounting live in retries.ts; re-exported for the queue's callers.
+export { jobExpirySeconds, RETRY_LIMIT } from './retries'
 
 export interface BossOptions {
   /** Run maintenance (expiry of jobs whose worker died, archiving). Workers do; the web server does not. */
   supervise?: boolean
-}
-
-/** Seconds after which a job whose worker vanished is retried (CONETRAIL_JOB_EXPIRE_S, default 60). */
-export function jobExpirySeconds(env = process.env): number {
-  const n = Number(env.CONETRAIL_JOB_EXPIRE_S)
-  return Number.isFinite(n) && n >= 1 ? n : 60
 }
 
 export function createBoss(databaseUrl: string, opts: BossOptions = {}): PgBoss {
@@ -37,13 +32,7 @@ export function createBoss(databaseUrl: string, opts: BossOptions = {}): PgBoss 
 export async function ensureQueue(boss: PgBoss): Promise<void> {
   const existing = await boss.getQueue(ANALYSE_QUEUE)
   if (existing) return
-  await boss.createQueue(ANALYSE_QUEUE, {
-    name: ANALYSE_QUEUE,
-    retryLimit: RETRY_LIMIT,
-    retryDelay: 1,
-    retryBackoff: true,
-    expireInSeconds: jobExpirySeconds(),
-  })
+  await boss.createQueue(ANALYSE_QUEUE, { name: ANALYSE_QUEUE, ...queueRetryPolicy() })
 }
 
 /** Enqueues inside the caller's transaction, so the job exists exactly when the recording row does. */

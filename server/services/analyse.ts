@@ -1,19 +1,16 @@
 import type { Knex } from 'knex'
 import { analyzeImpedanceTable, analyzeRecording, AnalysisInputError, type AnalysisResult } from '../analysis/index.ts'
 import { getActiveMask } from '../repos/masks.ts'
-import { getRecording, markAnalysing, markFinishedWithError } from '../repos/recordings.ts'
+import { getRecording, markFinishedWithError } from '../repos/recordings.ts'
 import { saveResult } from '../repos/results.ts'
 import { getProfileVersion } from '../repos/stations.ts'
 import { getProductById } from '../repos/products.ts'
 import { getUnitById } from '../repos/units.ts'
 import type { RecordingStorage } from '../storage/recordings.ts'
-import { RETRY_LIMIT } from '../queue/index.ts'
+import { claimAttempt, MAX_ATTEMPTS } from '../queue/retries.ts'
 import { judge } from '../verdict/judge.ts'
 
 export type ProcessOutcome = 'done' | 'rejected' | 'skipped'
-
-/** One try plus the queue's retries. */
-const MAX_ATTEMPTS = RETRY_LIMIT + 1
 
 /**
  * Analyses one stored recording and saves its result, judged by the product's released mask when
@@ -23,7 +20,7 @@ const MAX_ATTEMPTS = RETRY_LIMIT + 1
  * queue retries them.
  */
 export async function processRecording(db: Knex, storage: RecordingStorage, recordingId: number, maxAttempts = MAX_ATTEMPTS): Promise<ProcessOutcome> {
-  if (!(await markAnalysing(db, recordingId, maxAttempts))) return 'skipped'
+  if (!(await claimAttempt(db, recordingId, maxAttempts))) return 'skipped'
   const rec = (await getRecording(db, recordingId))!
   const unit = (await getUnitById(db, Number(rec.unit_id)))!
   const product = (await getProductById(db, Number(unit.product_id)))!
