@@ -7,7 +7,7 @@ import { fileURLToPath } from 'node:url'
 import knex, { type Knex } from 'knex'
 import { knexConfig } from '../knexfile'
 import { loadConfig, type ConetrailConfig } from '../server/utils/config'
-import { countUsers, createUserIfAbsent } from '../server/repos/users'
+import { countUsers, createUserIfAbsent } from '../server/repos/people'
 import { makePasswordHash } from './password'
 
 const projectRoot = resolve(fileURLToPath(import.meta.url), '../..')

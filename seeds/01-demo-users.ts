@@ -1,5 +1,5 @@
 import type { Knex } from 'knex'
-import { createUserIfAbsent } from '../server/repos/users'
+import { createUserIfAbsent } from '../server/repos/people'
 import { ROLES, ROLE_LABELS } from '../shared/utils/roles'
 import { makePasswordHash } from '../scripts/password'
 

@@ -1,7 +1,7 @@
-/** E-mailing a lot report: the PDF of server/reports/pdf.ts attached to a short message. */
+/** E-mailing a lot report: the PDF of server/reports/lot-report-pdf.ts attached to a short message. */
 import { DomainError } from '../../shared/utils/domain-error'
 import type { Knex } from 'knex'
-import { renderLotReportPdf } from '../reports/pdf'
+import { renderLotReportPdf } from '../reports/lot-report-pdf'
 import { getLotReport } from '../services/lot-report'
 import type { LotReportSent, SendLotReportInput } from '../../shared/utils/lot-report-mail'
 import { sendMail } from './index'

@@ -4,12 +4,11 @@
  * version that judged it, the figures beside their limits, a small response chart against the
  * mask band, and when and by what it was issued. Text is cut to fit, so the page never overflows.
  */
-import PDFDocument from 'pdfkit'
 import type { RecordingCurves, RecordingView } from '../../shared/types/api.ts'
 import type { UnitView } from '../../shared/types/units.ts'
 import { limitAtHz } from '../../shared/utils/mask.ts'
 import { parameterRows } from '../../shared/utils/units.ts'
-import { toWinAnsi } from './pdf.ts'
+import { renderA4Pdf, toWinAnsi, type Doc } from './pdf-document.ts'
 
 export interface CertificateData {
   unit: UnitView
@@ -30,7 +29,6 @@ const FAIL = '#a3160e'
 const CHART_HZ: [number, number] = [20, 20000]
 const CHART_TICKS = [20, 50, 100, 200, 500, 1000, 2000, 5000, 10000, 20000]
 
-type Doc = InstanceType<typeof PDFDocument>
 
 function text(doc: Doc, s: string, x: number, y: number, width: number, size = 10, color = INK, font = 'Helvetica') {
   doc.font(font).fontSize(size).fillColor(color)
@@ -184,16 +182,7 @@ function footer(doc: Doc, d: CertificateData, x: number, w: number) {
 
 /** The certificate as a one-page A4 PDF. */
 export function renderCertificatePdf(d: CertificateData): Promise<Buffer> {
-  return new Promise((resolve, reject) => {
-    const doc = new PDFDocument({
-      size: 'A4',
-      margins: { top: 0, bottom: 0, left: PAGE.margin, right: PAGE.margin },
-      info: { Title: `Test certificate ${d.unit.serial}`, Author: 'Conetrail', CreationDate: new Date(d.issuedAt) },
-    })
-    const chunks: Buffer[] = []
-    doc.on('data', (c: Buffer) => chunks.push(c))
-    doc.on('end', () => resolve(Buffer.concat(chunks)))
-    doc.on('error', reject)
+  return renderA4Pdf({ title: `Test certificate ${d.unit.serial}`, createdAt: new Date(d.issuedAt), margin: PAGE.margin }, (doc) => {
     const x = PAGE.margin
     const w = PAGE.width - 2 * PAGE.margin
     let y = header(doc, d, x, w)
@@ -201,6 +190,5 @@ export function renderCertificatePdf(d: CertificateData): Promise<Buffer> {
     y = parameterTable(doc, d, x, y + 6, w)
     if (d.curves?.splDb) responseChart(doc, d.curves, x, y + 8, w, Math.min(230, PAGE.height - 110 - (y + 8)))
     footer(doc, d, x, w)
-    doc.end()
   })
 }

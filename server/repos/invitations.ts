@@ -4,7 +4,7 @@ import { createHash, randomBytes } from 'node:crypto'
 import type { Knex } from 'knex'
 import type { Role } from '../../shared/utils/roles'
 import type { InvitationStatus, InvitationView } from '../../shared/types/people'
-import { createUser, normaliseEmail } from './users'
+import { createUser, normaliseEmail } from './people'
 import { isUniqueViolation } from './pg-errors'
 
 export const INVITATION_ERROR_CODES = ['invitation_unknown', 'invitation_used', 'invitation_expired', 'invitation_revoked', 'email_taken'] as const satisfies readonly ErrorCode[]

@@ -11,7 +11,8 @@ import { listProfilesOfRecordings } from '../repos/stations.ts'
 import { serialsOfOtherProducts } from '../repos/units.ts'
 import { listLatestPerUnit, listProductResults, setFirstVerdict, type StoredResult } from '../repos/results.ts'
 import { judge, type Judgement } from '../verdict/judge.ts'
-import { proposeLimits, summarize } from '../verdict/propose.ts'
+import { proposeLimits } from '../limits/propose.ts'
+import { summarize } from '../stats/summary.ts'
 
 /** A golden-unit choice the product's data cannot support. */
 export const GOLDEN_ERROR_CODES = ['product_not_found', 'golden_not_measured', 'golden_wrong_product'] as const satisfies readonly ErrorCode[]

@@ -1,6 +1,6 @@
 /** Sign-in and sign-out as the audit log records them (the session and rate limits stay with the route and its guards). */
 import type { Knex } from 'knex'
-import { recordLogin } from '../repos/users'
+import { recordLogin } from '../repos/people'
 import { recordAudit } from './audit'
 
 /** Why a sign-in was refused, for the audit log only (the caller's answer never tells). */

@@ -1,5 +1,5 @@
 /**
- * Distributions against the mask limits (issue 6, "Lot report"): histogram, mean, sample standard
+ * Distributions against the mask limits, for the lot report: histogram, mean, sample standard
  * deviation, and the process capability indices Cp, Cpk, Cpu and Cpl.
  *
  * Capability formulas as in the NIST/SEMATECH e-Handbook of Statistical Methods, section 6.1.6
@@ -14,7 +14,7 @@
  *
  * Pure: explicit imports, no Nuxt, h3 or database.
  */
-import { summarize } from '../verdict/propose.ts'
+import { summarize } from './summary.ts'
 import { StatsError } from './errors.ts'
 
 /** Specification limits of one figure (the mask's low and high); null where the mask sets none. */

@@ -1,8 +1,9 @@
 /**
  * Drift: the individuals / moving-range (I-MR) control chart over production order, with the
- * Western Electric run rules (issue 6, "Drift").
+ * Western Electric run rules: the drift view, which catches a process moving before units fail.
  *
- * Sources (from memory, the figures are the standard tabulated ones):
+ * Sources (section numbers from memory; the constants are the standard tabulated ones and follow
+ * from the normal distribution: d2 = 2/√π = 1.1284, D4 = 1 + 3·d3/d2 = 3.2665 with d3 = 0.8525):
  * - NIST/SEMATECH e-Handbook of Statistical Methods, 6.3.2.2 "Individuals Control Charts":
  *   moving range MRᵢ = |xᵢ − xᵢ₋₁|, centre line x̄, limits x̄ ± 3·MR̄/1.128, MR chart UCL 3.267·MR̄;
  * - Montgomery, Introduction to Statistical Quality Control, the individuals chart and the table of
@@ -13,7 +14,7 @@
  * Pure: the caller passes one figure's values (e.g. Fs) in production order, one per unit, with
  * units that lack the figure left out. Indices in the answers are positions in that array.
  */
-import { summarize } from '../verdict/propose.ts'
+import { summarize } from './summary.ts'
 import { StatsError } from './errors.ts'
 
 /** d2 for ranges of n = 2 consecutive points: E[range] of two standard normal values = 2/√π. */

@@ -1,5 +1,5 @@
 /**
- * The statistics core of the quality pages (issue 6): yield and the failure Pareto, capability
+ * The statistics core of the quality pages (lot report, dashboard, drift, alerts): yield and the failure Pareto, capability
  * (histogram, Cp, Cpk) and drift (I-MR control chart with the Western Electric run rules).
  * The lot report, the dashboard, the alert rules and the PDF import it from here.
  *
@@ -12,7 +12,7 @@
  * - Western Electric Co., Statistical Quality Control Handbook (1956): the zone tests;
  * - Freedman & Diaconis (1981) and Sturges (1926): histogram bin widths; Hyndman & Fan (1996),
  *   definition 7: quantiles;
- * - mean and sample standard deviation: `summarize` of server/verdict/propose.ts (corrected two-pass,
+ * - mean and sample standard deviation: `summarize` of server/stats/summary.ts (corrected two-pass,
  *   Chan, Golub & LeVeque 1983).
  */
 export { STATS_ERROR_CODES, StatsError, type StatsErrorCode } from './errors.ts'
@@ -24,8 +24,7 @@ export {
   type ParetoResult,
   type ParetoRow,
   type UnitHistory,
-  type UnitTest,
-  type Verdict,
+  type ProductionResult,
   type YieldSummary,
 } from './yield.ts'
 export {
@@ -65,4 +64,4 @@ export {
   type RunRule,
   type Side,
 } from './control.ts'
-export { summarize, type Summary } from '../verdict/propose.ts'
+export { summarize, type Summary } from './summary.ts'

@@ -1,5 +1,5 @@
 /**
- * Yield and the failure Pareto of a set of units (issue 6, "Lot report").
+ * Yield and the failure Pareto of a set of units, for the lot report and the dashboard.
  *
  * Pure: the caller loads each unit's production results in time order and leaves out return tests
  * (a return test never counts in production yield; see the glossary). Every ratio is a fraction
@@ -21,10 +21,10 @@
  * - retest rate: units with more than one production result (judged or not) / units tested.
  */
 
-export type Verdict = 'pass' | 'fail'
+import type { Verdict } from '../../shared/utils/verdict.ts'
 
 /** One production result of a unit, as the yield needs it. */
-export interface UnitTest {
+export interface ProductionResult {
   /** null: not judged (no released mask yet). */
   verdict: Verdict | null
   /** Names of the checks that failed (the result's check names, e.g. `fsHz`, `polarity`); empty when it passed. */
@@ -34,7 +34,7 @@ export interface UnitTest {
 /** One unit's production results, oldest first, return tests already excluded by the caller. */
 export interface UnitHistory {
   serial: string
-  tests: readonly UnitTest[]
+  tests: readonly ProductionResult[]
 }
 
 export interface YieldSummary {
@@ -60,11 +60,11 @@ function ratio(num: number, den: number): number | null {
   return den === 0 ? null : num / den
 }
 
-function firstJudged(tests: readonly UnitTest[]): UnitTest | undefined {
+function firstJudged(tests: readonly ProductionResult[]): ProductionResult | undefined {
   return tests.find((t) => t.verdict !== null)
 }
 
-function lastJudged(tests: readonly UnitTest[]): UnitTest | undefined {
+function lastJudged(tests: readonly ProductionResult[]): ProductionResult | undefined {
   for (let i = tests.length - 1; i >= 0; i--) if (tests[i]!.verdict !== null) return tests[i]
   return undefined
 }
@@ -144,7 +144,7 @@ export interface ParetoResult {
   rows: ParetoRow[]
 }
 
-function testsFor(u: UnitHistory, basis: ParetoBasis): UnitTest[] | null {
+function testsFor(u: UnitHistory, basis: ParetoBasis): ProductionResult[] | null {
   if (basis === 'first') {
     const first = u.tests[0]
     return first && first.verdict !== null ? [first] : null

@@ -1,6 +1,6 @@
 import type { H3Event } from 'h3'
 import type { User } from '#auth-utils'
-import { getUserById } from '../repos/users'
+import { getUserById } from '../repos/people'
 import type { Actor } from '../services/people'
 import { roleAllows, type Role } from '../../shared/utils/roles'
 import { useDb } from './db'

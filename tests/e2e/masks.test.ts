@@ -117,7 +117,7 @@ describe('a mask from golden units through its life', () => {
     const fs = golden.map((g) => g.parameters!.fsHz!)
     expect(v1.golden.figures.fsHz!.mean).toBeCloseTo(mean(fs), 9)
     expect(v1.golden.figures.fsHz!.sd).toBeCloseTo(sampleStandardDeviation(fs), 9)
-    // mean ± max(k·σ, floor) with the default Fs floor of 2 Hz (server/verdict/propose.ts), stored to 5 significant digits.
+    // mean ± max(k·σ, floor) with the default Fs floor of 2 Hz (server/limits/propose.ts), stored to 5 significant digits.
     const half = Math.max(3 * sampleStandardDeviation(fs), 2)
     expect(v1.scalars.fsHz!.low).toBeCloseTo(mean(fs) - half, 2)
     expect(v1.scalars.fsHz!.high).toBeCloseTo(mean(fs) + half, 2)

@@ -11,7 +11,7 @@ import { ERROR_CODES, codeForStatus, isErrorCode } from '../../shared/utils/erro
 import { DomainError } from '../../shared/utils/domain-error'
 import { ANALYSIS_ERROR_CODES, AnalysisInputError } from '../../server/analysis/errors'
 import { STATS_ERROR_CODES } from '../../server/stats/errors'
-import { PROPOSE_ERROR_CODES } from '../../server/verdict/propose'
+import { PROPOSE_ERROR_CODES } from '../../server/limits/propose'
 import { PEOPLE_ERROR_CODES } from '../../server/services/people'
 import { CERTIFICATE_ERROR_CODES } from '../../server/services/units'
 import { UPLOAD_REFUSAL_CODES } from '../../server/services/ingest'
@@ -32,7 +32,7 @@ const ROOT = join(import.meta.dirname, '..', '..')
 const CODE_LISTS: Record<string, readonly string[]> = {
   'engine (server/analysis/errors.ts)': ANALYSIS_ERROR_CODES,
   'statistics (server/stats/errors.ts)': STATS_ERROR_CODES,
-  'mask proposal (server/verdict/propose.ts)': PROPOSE_ERROR_CODES,
+  'mask proposal (server/limits/propose.ts)': PROPOSE_ERROR_CODES,
   'people service': PEOPLE_ERROR_CODES,
   'certificates (units service)': CERTIFICATE_ERROR_CODES,
   'uploads (ingest service)': UPLOAD_REFUSAL_CODES,

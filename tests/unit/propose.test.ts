@@ -6,9 +6,9 @@ import {
   ProposeError,
   defaultCurveRange,
   proposeLimits,
-  summarize,
   type GoldenResult,
-} from '../../server/verdict/propose.ts'
+} from '../../server/limits/propose.ts'
+import { summarize } from '../../server/stats/summary.ts'
 import { judge, type Judgeable } from '../../server/verdict/judge.ts'
 
 describe('golden statistics (mean, sample standard deviation)', () => {

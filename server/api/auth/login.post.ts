@@ -1,5 +1,5 @@
 // access: public
-import { getUserByEmail, normaliseEmail } from '../../repos/users'
+import { getUserByEmail, normaliseEmail } from '../../repos/people'
 import { noteSignIn, noteSignInRefused } from '../../services/sign-in'
 import { loginSchema } from '../../../shared/utils/sign-in'
 import type { MeResponse } from '../../../shared/types/api'

@@ -1,5 +1,5 @@
 import { changePerson } from '../../services/people'
-import { listPeople } from '../../repos/users'
+import { listPeople } from '../../repos/people'
 import { personIdParamSchema, personPatchSchema } from '../../../shared/utils/people'
 import type { PersonView } from '../../../shared/types/people'
 

@@ -1,4 +1,4 @@
-import { listPeople } from '../../repos/users'
+import { listPeople } from '../../repos/people'
 import type { PersonView } from '../../../shared/types/people'
 
 export default defineEventHandler(async (event) => {

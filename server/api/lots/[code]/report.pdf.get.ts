@@ -1,5 +1,5 @@
 import { exportLotReport } from '../../../services/exports'
-import { renderLotReportPdf } from '../../../reports/pdf'
+import { renderLotReportPdf } from '../../../reports/lot-report-pdf'
 import { lotParamSchema } from '../../../../shared/utils/reports'
 
 /** The lot report as a PDF download; technicians and support cannot export. */

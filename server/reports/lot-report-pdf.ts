@@ -6,8 +6,8 @@
  * 3. drift: the individuals charts of Fs and Re with their control limits, flagged points and warnings.
  * Text is cut to fit its box, so no page overflows into an unplanned one.
  */
-import PDFDocument from 'pdfkit'
 import type { ControlChartView, FigureDistribution, LotReport } from '../../shared/types/reports.ts'
+import { renderA4Pdf, toWinAnsi, type Doc } from './pdf-document.ts'
 
 export const LOT_REPORT_PAGES = 3
 
@@ -19,18 +19,9 @@ const LIMIT = '#b03a2e'
 const GRID = '#d8d6cf'
 const MAX_PARETO_ROWS = 10
 
-type Doc = InstanceType<typeof PDFDocument>
 
 const pct = (v: number | null) => (v === null ? '–' : `${(v * 100).toFixed(1)} %`)
 const num = (v: number | null, digits = 3) => (v === null || !Number.isFinite(v) ? '–' : Number(v.toPrecision(digits)).toString())
-
-/** Letters the built-in Helvetica (WinAnsi encoding) lacks, spelled out; anything else outside it becomes "?". */
-const SPELLED: Record<string, string> = { 'σ': ' sigma', 'Ω': 'ohm', '−': '-', '≥': '>=', '≤': '<=', '→': '->' }
-const WIN_ANSI_EXTRA = new Set('€‚ƒ„…†‡ˆ‰Š‹ŒŽ‘’“”•–—˜™š›œžŸ')
-
-export function toWinAnsi(text: string): string {
-  return [...text].map((ch) => SPELLED[ch] ?? (ch.charCodeAt(0) <= 0xff || WIN_ANSI_EXTRA.has(ch) ? ch : '?')).join('')
-}
 
 /** One line of text, cut with an ellipsis to the width, never wrapping onto a new page. */
 function line(doc: Doc, text: string, x: number, y: number, width: number, size = 10, color = INK, font = 'Helvetica') {
@@ -179,16 +170,7 @@ function driftPage(doc: Doc, r: LotReport) {
 
 /** The lot report as a PDF (three A4 pages). */
 export function renderLotReportPdf(report: LotReport): Promise<Buffer> {
-  return new Promise((resolve, reject) => {
-    const doc = new PDFDocument({
-      size: 'A4',
-      margins: { top: 0, bottom: 0, left: PAGE.margin, right: PAGE.margin },
-      info: { Title: `Lot report ${report.lot.code}`, Author: 'Conetrail', CreationDate: new Date(report.generatedAt) },
-    })
-    const chunks: Buffer[] = []
-    doc.on('data', (c: Buffer) => chunks.push(c))
-    doc.on('end', () => resolve(Buffer.concat(chunks)))
-    doc.on('error', reject)
+  return renderA4Pdf({ title: `Lot report ${report.lot.code}`, createdAt: new Date(report.generatedAt), margin: PAGE.margin }, (doc) => {
     summaryPage(doc, report)
     footer(doc, report, 1)
     doc.addPage()
@@ -197,6 +179,5 @@ export function renderLotReportPdf(report: LotReport): Promise<Buffer> {
     doc.addPage()
     driftPage(doc, report)
     footer(doc, report, 3)
-    doc.end()
   })
 }
