@@ -1,5 +1,5 @@
 /**
- * Demo scenario (issue 4, "Demo"): an invented factory with three driver models, four stations,
+ * Demo scenario, so every page has realistic data on first start: an invented factory with three driver models, four stations,
  * lots, about 240 units with recordings from the seeded generator (some failing for the reasons a
  * line sees), retests, lab impedance tables, and a first mask per product built from golden units
  * with proposeLimits. Recordings go through the real path: stored file, recording row, then
@@ -14,7 +14,7 @@ import { createProduct } from '../server/repos/products.ts'
 import { insertRecording } from '../server/repos/recordings.ts'
 import { createStation } from '../server/services/stations.ts'
 import { findOrCreateLot } from '../server/repos/units.ts'
-import { processRecording } from '../server/services/analyse.ts'
+import { processRecording } from '../server/services/analyze.ts'
 import { createMaskFromGolden, releaseAndJudge } from '../server/services/masks.ts'
 import { directoryStorage, newStorageKey, type RecordingStorage } from '../server/storage/recordings.ts'
 import { loadConfig } from '../server/utils/config.ts'

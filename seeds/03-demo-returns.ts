@@ -1,5 +1,5 @@
 /**
- * Demo returns (issue 7): a few invented units back from the field, re-tested through the real path
+ * Demo returns, so the returns desk has something to show: a few invented units back from the field, re-tested through the real path
  * (stored file, recording row linked to its return, processRecording), two of them closed. Runs
  * after the demo factory; idempotent: does nothing once any return exists or without the demo units.
  */
@@ -10,7 +10,7 @@ import type { Knex } from 'knex'
 import { recordAudit } from '../server/services/audit.ts'
 import { insertRecording } from '../server/repos/recordings.ts'
 import { closeReturnRow, insertReturn } from '../server/repos/returns.ts'
-import { processRecording } from '../server/services/analyse.ts'
+import { processRecording } from '../server/services/analyze.ts'
 import { directoryStorage, newStorageKey } from '../server/storage/recordings.ts'
 import { loadConfig } from '../server/utils/config.ts'
 import { demoEmail } from './01-demo-users.ts'

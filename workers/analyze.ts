@@ -12,10 +12,10 @@ import knex, { type Knex } from 'knex'
 import type PgBoss from 'pg-boss'
 import { knexConfig } from '../knexfile'
 import { loadConfig } from '../server/utils/config'
-import { ANALYSE_QUEUE, createBoss, ensureQueue, type AnalyseJob } from '../server/queue/index'
+import { ANALYZE_QUEUE, createBoss, ensureQueue, type AnalyzeJob } from '../server/queue/index'
 import { getRecording } from '../server/repos/recordings'
 import { failForGood, failRecordingsWithoutJob, isLastTry, ORPHAN_SWEEP_MS } from '../server/queue/retries'
-import { processRecording } from '../server/services/analyse'
+import { processRecording } from '../server/services/analyze'
 import { evaluateAlerts } from '../server/services/alerts'
 import { directoryStorage } from '../server/storage/recordings'
 import { isDatabaseUnavailable } from '../server/utils/db'
@@ -46,7 +46,7 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
   const boss = createBoss(cfg.databaseUrl, { supervise: true })
   const concurrency = Math.max(1, Number(process.env.CONETRAIL_WORKER_CONCURRENCY) || 2)
 
-  async function handle(job: PgBoss.JobWithMetadata<AnalyseJob>) {
+  async function handle(job: PgBoss.JobWithMetadata<AnalyzeJob>) {
     const id = job.data.recordingId
     await hooks.beforeJob?.(id, db)
     try {
@@ -72,7 +72,7 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
       }
       log(`recording ${id}: try ${job.retryCount + 1} failed, will retry: ${message}`)
       // Only this job goes back to the queue; the others of its batch complete normally.
-      await boss.fail(ANALYSE_QUEUE, job.id, { message })
+      await boss.fail(ANALYZE_QUEUE, job.id, { message })
     }
   }
 
@@ -89,7 +89,7 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
 
   async function sweepOrphans() {
     try {
-      const n = await failRecordingsWithoutJob(db, ANALYSE_QUEUE)
+      const n = await failRecordingsWithoutJob(db, ANALYZE_QUEUE)
       if (n) log(`${n} recording(s) whose analysis stopped for good marked failed`)
     } catch (err) {
       log(`orphan sweep: ${err instanceof Error ? err.message : String(err)}`)
@@ -124,7 +124,7 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
   await boss.start()
   await ensureQueue(boss)
   for (let i = 0; i < concurrency; i++) {
-    await boss.work<AnalyseJob>(ANALYSE_QUEUE, { batchSize: BATCH_SIZE, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async (jobs) => {
+    await boss.work<AnalyzeJob>(ANALYZE_QUEUE, { batchSize: BATCH_SIZE, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async (jobs) => {
       for (const job of jobs) await handle(job)
     })
   }

@@ -2,10 +2,13 @@ import type { Knex } from 'knex'
 import PgBoss from 'pg-boss'
 import { jobExpirySeconds, queueRetryPolicy } from './retries'
 
-/** The one queue: analyse an accepted recording. Jobs carry only the recording id (idempotent). */
-export const ANALYSE_QUEUE = 'analyse-recording'
+/**
+ * The one queue: analyze an accepted recording. Jobs carry only the recording id (idempotent).
+ * The queue's stored name keeps its first spelling: jobs already queued under it must still be taken.
+ */
+export const ANALYZE_QUEUE = 'analyse-recording'
 
-export interface AnalyseJob {
+export interface AnalyzeJob {
   recordingId: number
 }
 
@@ -30,15 +33,15 @@ export function createBoss(databaseUrl: string, opts: BossOptions = {}): PgBoss 
 
 /** Creates the queue with its policy when absent (pg-boss 10 needs a queue before send). */
 export async function ensureQueue(boss: PgBoss): Promise<void> {
-  const existing = await boss.getQueue(ANALYSE_QUEUE)
+  const existing = await boss.getQueue(ANALYZE_QUEUE)
   if (existing) return
-  await boss.createQueue(ANALYSE_QUEUE, { name: ANALYSE_QUEUE, ...queueRetryPolicy() })
+  await boss.createQueue(ANALYZE_QUEUE, { name: ANALYZE_QUEUE, ...queueRetryPolicy() })
 }
 
 /** Enqueues inside the caller's transaction, so the job exists exactly when the recording row does. */
 export async function enqueueAnalysis(boss: PgBoss, trx: Knex.Transaction, recordingId: number): Promise<void> {
   const conn = (await trx.client.acquireConnection()) as { query: (text: string, values?: unknown[]) => Promise<{ rows: unknown[] }> }
-  await boss.send(ANALYSE_QUEUE, { recordingId } satisfies AnalyseJob, {
+  await boss.send(ANALYZE_QUEUE, { recordingId } satisfies AnalyzeJob, {
     expireInSeconds: jobExpirySeconds(),
     db: { executeSql: (text: string, values: unknown[]) => conn.query(text, values) },
   } as PgBoss.SendOptions)

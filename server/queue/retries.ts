@@ -10,7 +10,7 @@
  * so pg-boss dropped the job without a failure anyone recorded.
  */
 import type { Knex } from 'knex'
-import { failOrphanedRecordings, markAnalysing, markFinishedWithError } from '../repos/recordings'
+import { failOrphanedRecordings, markInAnalysis, markFinishedWithError } from '../repos/recordings'
 
 /** Retries after the first try: a few, with exponential backoff. Our choice. */
 export const RETRY_LIMIT = 3
@@ -42,7 +42,7 @@ export function isLastTry(job: { retryCount: number; retryLimit: number }): bool
  * attempts are used up (it is then marked failed).
  */
 export function claimAttempt(db: Knex, recordingId: number, maxAttempts = MAX_ATTEMPTS): Promise<boolean> {
-  return markAnalysing(db, recordingId, maxAttempts)
+  return markInAnalysis(db, recordingId, maxAttempts)
 }
 
 /** Ends a recording `failed` after its last try. */

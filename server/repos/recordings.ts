@@ -78,7 +78,7 @@ export async function findRecordingOfOtherUnit(db: Knex, unitId: number, sha256:
  * Claims a recording for analysis and counts the attempt. Returns false when it is already
  * finished, or when its attempts are used up (it is then marked failed).
  */
-export async function markAnalysing(db: Knex, id: number, maxAttempts: number): Promise<boolean> {
+export async function markInAnalysis(db: Knex, id: number, maxAttempts: number): Promise<boolean> {
   const n = await db('recordings')
     .where({ id })
     .whereIn('status', ['queued', 'analysing', 'failed'])

@@ -2,7 +2,7 @@ import { createHash } from 'node:crypto'
 import { existsSync, mkdirSync, readdirSync, rmSync, writeFileSync } from 'node:fs'
 import { join } from 'node:path'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
-import { ANALYSE_QUEUE } from '../../server/queue/index'
+import { ANALYZE_QUEUE } from '../../server/queue/index'
 import { StorageUnavailable, asStorageFault } from '../../server/storage/recordings'
 import { generateRecording } from '../../fixtures/generator'
 import { useTestServer } from '../support/app'
@@ -33,7 +33,7 @@ async function queuedJobs(): Promise<number> {
   // The queue's tables appear with the first pg-boss start (the server's first upload).
   const { rows } = await testDb().raw("SELECT to_regclass('pgboss.job') IS NOT NULL AS present")
   if (!rows[0].present) return 0
-  const [{ n }] = await testDb()('pgboss.job').where({ name: ANALYSE_QUEUE }).count({ n: '*' })
+  const [{ n }] = await testDb()('pgboss.job').where({ name: ANALYZE_QUEUE }).count({ n: '*' })
   return Number(n)
 }
 

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { ANALYSE_QUEUE } from '../../server/queue/index'
+import { ANALYZE_QUEUE } from '../../server/queue/index'
 import { generateRecording } from '../../fixtures/generator'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import { signIn, useTestServer } from '../support/app'
@@ -34,7 +34,7 @@ async function resultCount(recordingId: number): Promise<number> {
 }
 
 async function jobStates(recordingId: number): Promise<string[]> {
-  const rows = await testDb()('pgboss.job').where({ name: ANALYSE_QUEUE }).whereRaw("(data->>'recordingId')::bigint = ?", [recordingId]).select('state')
+  const rows = await testDb()('pgboss.job').where({ name: ANALYZE_QUEUE }).whereRaw("(data->>'recordingId')::bigint = ?", [recordingId]).select('state')
   return rows.map((r: { state: string }) => r.state)
 }
 

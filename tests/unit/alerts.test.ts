@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import { driftAtLatest, yieldWindow } from '../../server/services/alerts'
-import type { Verdict } from '../../server/stats/index'
+import type { Verdict } from '../../shared/utils/verdict'
 
 const v = (s: string): Verdict[] => [...s].map((c) => (c === 'p' ? 'pass' : 'fail'))
 

@@ -10,7 +10,7 @@ import { readSample, readTruth, relErr, samplesDir } from './helpers.ts'
 
 const truth = readTruth()
 const results = new Map<string, AnalysisResult>()
-const analyse = (name: string): AnalysisResult => {
+const analyzeSample = (name: string): AnalysisResult => {
   let r = results.get(name)
   if (!r) {
     r = analyzeRecording(readSample(name), DEFAULT_PROFILE)
@@ -22,7 +22,7 @@ const analyse = (name: string): AnalysisResult => {
 describe.each(['S6-00-0001.wav', 'S6-00-0002.wav', 'S6-00-0004.wav'])('reference recording %s', (name) => {
   const t = truth[name]!
   it('small-signal parameters match the truth (Re, Fs 0.5 %; Qms, Qes, Qts 2 %; Le 5 %; Zmax 1 %)', () => {
-    const p = analyse(name).parameters
+    const p = analyzeSample(name).parameters
     expect(relErr(p.reOhm, t.params.Re)).toBeLessThan(0.005)
     expect(relErr(p.fsHz, t.params.Fs)).toBeLessThan(0.005)
     expect(relErr(p.qms, t.params.Qms)).toBeLessThan(0.02)
@@ -34,7 +34,7 @@ describe.each(['S6-00-0001.wav', 'S6-00-0002.wav', 'S6-00-0004.wav'])('reference
   })
 
   it('SPL at 2.83 V / 1 m matches the one-third-octave truth within 0.5 dB up to 16 kHz', () => {
-    const r = analyse(name)
+    const r = analyzeSample(name)
     for (const [f, db] of t.spl_third_octave_db!) {
       if (f < 25 || f > 16_000) continue // the sweep's fades: judge 25 Hz–16 kHz (samples README)
       const v = valueAtHz(r.curves.freqHz, r.curves.splDb!, f)
@@ -44,7 +44,7 @@ describe.each(['S6-00-0001.wav', 'S6-00-0002.wav', 'S6-00-0004.wav'])('reference
   })
 
   it('THD at 100 Hz, 1 kHz, 3 kHz within 20 % of the steady-sine truth', () => {
-    const r = analyse(name)
+    const r = analyzeSample(name)
     for (const [hz, v] of Object.entries(t.thd!)) {
       const row = r.thdAt.find((x) => x.hz === Number(hz))!
       expect(relErr(row.thdPct, v.thd_percent), `${hz} Hz`).toBeLessThan(0.2)
@@ -55,7 +55,7 @@ describe.each(['S6-00-0001.wav', 'S6-00-0002.wav', 'S6-00-0004.wav'])('reference
 
 describe('reference recordings: unit faults', () => {
   it('S6-00-0001 (good unit): polarity normal, no rub and buzz', () => {
-    const r = analyse('S6-00-0001.wav')
+    const r = analyzeSample('S6-00-0001.wav')
     expect(r.flags.polarity).toBe('normal')
     expect(r.flags.rubBuzz).toBe(false)
     expect(r.flags.openCoil).toBe(false)
@@ -64,11 +64,11 @@ describe('reference recordings: unit faults', () => {
   })
 
   it('S6-00-0002 (coil wired backwards): polarity inverted', () => {
-    expect(analyse('S6-00-0002.wav').flags.polarity).toBe('inverted')
+    expect(analyzeSample('S6-00-0002.wav').flags.polarity).toBe('inverted')
   })
 
   it('S6-00-0003 (open coil): a result with the open-coil flag, not an error', () => {
-    const r = analyse('S6-00-0003.wav')
+    const r = analyzeSample('S6-00-0003.wav')
     expect(r.flags.openCoil).toBe(true)
     expect(r.flags.shortedCoil).toBe(false)
     expect(r.parameters.fsHz).toBeNull()
@@ -77,15 +77,15 @@ describe('reference recordings: unit faults', () => {
   })
 
   it('S6-00-0004 (rubbing coil) is flagged and 0001 is not, each ≥ 8 dB from the limit', () => {
-    const bad = analyse('S6-00-0004.wav').parameters
-    const good = analyse('S6-00-0001.wav').parameters
-    expect(analyse('S6-00-0004.wav').flags.rubBuzz).toBe(true)
+    const bad = analyzeSample('S6-00-0004.wav').parameters
+    const good = analyzeSample('S6-00-0001.wav').parameters
+    expect(analyzeSample('S6-00-0004.wav').flags.rubBuzz).toBe(true)
     expect(bad.rubBuzzDb! - bad.rubBuzzLimitDb).toBeGreaterThan(8)
     expect(good.rubBuzzLimitDb - good.rubBuzzDb!).toBeGreaterThan(8)
   })
 
   it('results are plain JSON (no typed arrays)', () => {
-    const r = analyse('S6-00-0001.wav')
+    const r = analyzeSample('S6-00-0001.wav')
     expect(JSON.parse(JSON.stringify(r))).toEqual(r)
   })
 })
