@@ -8,6 +8,9 @@ import type { CertificateSent } from '../../shared/types/units'
 import type { SendCertificateInput } from '../../shared/utils/units'
 import { mailCertificate } from '../mail/certificate'
 import { sendLotReport } from '../mail/lot-report'
+import { lotUnitsCsv } from '../reports/csv'
+import { renderLotReportPdf } from '../reports/lot-report-pdf'
+import { DomainError } from '../../shared/utils/domain-error'
 import { recordAudit } from './audit'
 import { getLotReport, getLotUnitRows } from './lot-report'
 import { getCertificateData } from './units'
@@ -20,27 +23,35 @@ export interface Exporter {
   ip?: string | null
 }
 
-/** The lot's unit rows for the CSV download, audited; undefined for an unknown lot (nothing audited). */
-export async function exportLotUnitRows(db: Knex, lotCode: string, by: Pick<Exporter, 'id' | 'ip'>): Promise<Awaited<ReturnType<typeof getLotUnitRows>>> {
+/**
+ * The lot's units as the CSV download (one row per unit), audited.
+ * @throws DomainError `unknown_lot` (nothing audited).
+ */
+export async function exportLotCsv(db: Knex, lotCode: string, by: Pick<Exporter, 'id' | 'ip'>): Promise<string> {
   const lot = await getLotUnitRows(db, lotCode)
-  if (lot) await recordAudit(db, { userId: by.id, action: 'lot.export_csv', entity: 'lot', entityId: lotCode, subject: lotCode, ip: by.ip, detail: { units: lot.rows.length } })
-  return lot
+  if (!lot) throw new DomainError('unknown_lot', `No lot ${lotCode}`)
+  await recordAudit(db, { userId: by.id, action: 'lot.export_csv', entity: 'lot', entityId: lotCode, subject: lotCode, ip: by.ip, detail: { units: lot.rows.length } })
+  return lotUnitsCsv(lot.rows)
 }
 
-/** The lot report for the PDF download, audited; undefined for an unknown lot (nothing audited). */
-export async function exportLotReport(db: Knex, lotCode: string, by: Pick<Exporter, 'id' | 'ip'>): Promise<Awaited<ReturnType<typeof getLotReport>>> {
+/**
+ * The lot report as the PDF download, audited.
+ * @throws DomainError `unknown_lot` (nothing audited).
+ */
+export async function exportLotPdf(db: Knex, lotCode: string, by: Pick<Exporter, 'id' | 'ip'>): Promise<Buffer> {
   const report = await getLotReport(db, lotCode)
-  if (report) await recordAudit(db, { userId: by.id, action: 'lot.export_pdf', entity: 'lot', entityId: lotCode, subject: lotCode, ip: by.ip })
-  return report
+  if (!report) throw new DomainError('unknown_lot', `No lot ${lotCode}`)
+  await recordAudit(db, { userId: by.id, action: 'lot.export_pdf', entity: 'lot', entityId: lotCode, subject: lotCode, ip: by.ip })
+  return renderLotReportPdf(report)
 }
 
 /**
  * E-mails the lot report and audits it (recipients and the message id) once the mail server took it.
- * @throws what sendLotReport throws (mail not configured, the mail server's refusal).
+ * @throws what sendLotReport throws (`unknown_lot`, mail not configured, the mail server's refusal).
  */
 export async function mailLotReport(db: Knex, lotCode: string, input: Parameters<typeof sendLotReport>[2], by: Exporter): Promise<Awaited<ReturnType<typeof sendLotReport>>> {
   const sent = await sendLotReport(db, lotCode, input, by)
-  if (sent) await recordAudit(db, { userId: by.id, action: 'lot.report_sent', entity: 'lot', entityId: lotCode, subject: lotCode, ip: by.ip, detail: { recipients: sent.recipients, messageId: sent.messageId } })
+  await recordAudit(db, { userId: by.id, action: 'lot.report_sent', entity: 'lot', entityId: lotCode, subject: lotCode, ip: by.ip, detail: { recipients: sent.recipients, messageId: sent.messageId } })
   return sent
 }
 

@@ -4,7 +4,7 @@ import type { Knex } from 'knex'
 import type { MaskCandidate, MaskPreview, MaskView } from '../../shared/types/api.ts'
 import { reDisagreementPct } from '../../shared/utils/coil.ts'
 import { SCALAR_LIMIT_NAMES, figureValue, type MaskCreateInput, type MaskLimits } from '../../shared/utils/mask.ts'
-import { createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, retireMask as retireReleasedMask, type ActiveMask } from '../repos/masks.ts'
+import { MaskStateError, createMaskDraft, getActiveMask, getMaskSummary, listGolden, releaseMask, retireMask as retireReleasedMask, updateMaskDraft, type ActiveMask } from '../repos/masks.ts'
 import { recordAudit } from './audit.ts'
 import { getProductByCode, getProductById } from '../repos/products.ts'
 import { listProfilesOfRecordings } from '../repos/stations.ts'
@@ -126,9 +126,21 @@ export function retireMask(db: Knex, maskId: number, by: number | null, comment:
   })
 }
 
-export async function getMaskView(db: Knex, id: number): Promise<MaskView | undefined> {
+/** A draft mask from golden units, as the mask page shows it. @throws what createMaskFromGolden throws. */
+export async function createMask(db: Knex, input: MaskCreateInput, userId: number | null): Promise<MaskView> {
+  return getMaskView(db, await createMaskFromGolden(db, input, userId))
+}
+
+/** Edits a draft's name or limits. @throws MaskStateError `unknown_mask`, `mask_not_draft`. */
+export async function editMaskDraft(db: Knex, id: number, patch: Parameters<typeof updateMaskDraft>[2]): Promise<MaskView> {
+  await updateMaskDraft(db, id, patch)
+  return getMaskView(db, id)
+}
+
+/** A mask with its golden units' figures and curves. @throws MaskStateError `unknown_mask`. */
+export async function getMaskView(db: Knex, id: number): Promise<MaskView> {
   const m = await getMaskSummary(db, id)
-  if (!m) return undefined
+  if (!m) throw new MaskStateError('unknown_mask', `No mask ${id}`)
   const product = (await getProductById(db, m.productId))!
   const refs = await listGolden(db, id)
   const golden = refs.length ? await listProductResults(db, m.productId, { recordingIds: refs.map((r) => r.recordingId) }) : []

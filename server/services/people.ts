@@ -3,11 +3,11 @@ import { DomainError } from '../../shared/utils/domain-error'
 import type { ErrorCode } from '../../shared/utils/error-codes'
 import type { Knex } from 'knex'
 import { acceptInvitation, createInvitation, revokeInvitation } from '../repos/invitations'
-import { getUserById, lockActiveAdmins, setActive, setRole } from '../repos/people'
+import { getUserById, listPeople, lockActiveAdmins, setActive, setRole } from '../repos/people'
 import { recordAudit } from './audit'
 import { sendInvitationMail } from '../mail/invitation'
 import { INVITATION_HOURS, type InviteInput, type PersonPatch } from '../../shared/utils/people'
-import type { InvitationCreated, InvitationView } from '../../shared/types/people'
+import type { InvitationCreated, InvitationView, PersonView } from '../../shared/types/people'
 
 /** Who acts, from where (for the audit log). */
 export interface Actor {
@@ -71,9 +71,10 @@ export async function joinByInvitation(db: Knex, token: string, input: { display
 /**
  * Changes a person's role or (de)activates them. Nobody is ever deleted. The change that would
  * leave no active admin is refused, whoever makes it (the active admins' rows are locked first).
+ * Answers the person as they now are.
  * @throws PeopleError `unknown_person`, `last_admin`.
  */
-export async function changePerson(db: Knex, by: Actor, id: number, patch: PersonPatch): Promise<void> {
+export async function changePerson(db: Knex, by: Actor, id: number, patch: PersonPatch): Promise<PersonView> {
   await db.transaction(async (trx) => {
     const admins = await lockActiveAdmins(trx)
     const person = await getUserById(trx, id)
@@ -92,4 +93,5 @@ export async function changePerson(db: Knex, by: Actor, id: number, patch: Perso
       await recordAudit(trx, { ...audit, action: patch.active ? 'user.reactivate' : 'user.deactivate', detail: { role: patch.role ?? person.role } })
     }
   })
+  return (await listPeople(db)).find((p) => p.id === id)!
 }

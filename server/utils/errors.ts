@@ -97,9 +97,10 @@ export interface ErrorAnswer {
   requestId?: string
 }
 
+/** A code's answer; `retryAfterS` in the details (a sign-in limit, an unreachable database) becomes the Retry-After header too. */
 function coded(code: ErrorCode, message: string, details: Record<string, unknown> = {}): ErrorAnswer {
-  const headers: Record<string, string | number> = code === 'database_unavailable' ? { 'retry-after': RETRY_AFTER_S } : {}
-  const data = code === 'database_unavailable' ? { ...details, code, retryAfterS: RETRY_AFTER_S } : { ...details, code }
+  const data: ErrorAnswer['data'] = code === 'database_unavailable' ? { ...details, code, retryAfterS: RETRY_AFTER_S } : { ...details, code }
+  const headers: Record<string, string | number> = typeof data.retryAfterS === 'number' ? { 'retry-after': data.retryAfterS } : {}
   return { statusCode: ERROR_CODES[code].status, message, data, headers }
 }
 

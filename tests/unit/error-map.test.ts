@@ -178,3 +178,19 @@ describe('one place maps errors', () => {
     expect(offenders).toEqual([])
   })
 })
+
+describe('a route reads guard → validated input → one call → answer', () => {
+  // The session cookie (sign-in, sign-out), a password hashed with the sign-in module's settings and
+  // the station an upload names are the HTTP side of a request, not the work: they may stand beside
+  // the one call.
+  const HTTP_SIDE = new Set(['requireRole', 'requireActor', 'requireUserOrStation', 'getValidatedRouterParams', 'getValidatedQuery', 'readValidatedBody', 'readMultipartUpload', 'getUserSession', 'startSession', 'endSession', 'hashPassword', 'chosenStation', 'useBoss', 'rm'])
+
+  it('makes at most one awaited call into a service or repo', () => {
+    const routes = SERVER_FILES.filter((f) => relative(ROOT, f).startsWith(join('server', 'api')))
+    const busy = routes
+      .map((f) => [relative(ROOT, f), [...readFileSync(f, 'utf8').matchAll(/await (\w+)\(/g)].map((m) => m[1]!).filter((n) => !HTTP_SIDE.has(n))] as const)
+      .filter(([, calls]) => calls.length > 1)
+    expect(busy).toEqual([])
+  })
+})
+

@@ -1,5 +1,4 @@
-import { updateMaskDraft } from '../../repos/masks'
-import { getMaskView } from '../../services/masks'
+import { editMaskDraft } from '../../services/masks'
 import { idParamSchema } from '../../../shared/utils/ids'
 import { maskPatchSchema } from '../../../shared/utils/mask'
 import type { MaskView } from '../../../shared/types/api'
@@ -8,7 +7,5 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'engineer')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
   const patch = await readValidatedBody(event, zodValidator(maskPatchSchema))
-  const db = useDb()
-  await updateMaskDraft(db, id, patch)
-  return (await getMaskView(db, id))! satisfies MaskView
+  return (await editMaskDraft(useDb(), id, patch)) satisfies MaskView
 })

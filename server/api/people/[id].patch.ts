@@ -1,5 +1,4 @@
 import { changePerson } from '../../services/people'
-import { listPeople } from '../../repos/people'
 import { personIdParamSchema, personPatchSchema } from '../../../shared/utils/people'
 import type { PersonView } from '../../../shared/types/people'
 
@@ -8,7 +7,5 @@ export default defineEventHandler(async (event) => {
   const actor = await requireActor(event, 'admin')
   const { id } = await getValidatedRouterParams(event, zodValidator(personIdParamSchema))
   const patch = await readValidatedBody(event, zodValidator(personPatchSchema))
-  const db = useDb()
-  await changePerson(db, actor, id, patch)
-  return (await listPeople(db)).find((p) => p.id === id)! satisfies PersonView
+  return (await changePerson(useDb(), actor, id, patch)) satisfies PersonView
 })

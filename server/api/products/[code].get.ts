@@ -1,10 +1,8 @@
-import { getProductByCode } from '../../repos/products'
+import { getProduct } from '../../services/products'
 import { productCodeParamSchema, type ProductListItem } from '../../../shared/utils/product'
 
 export default defineEventHandler(async (event) => {
   await requireRole(event)
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
-  const product = await getProductByCode(useDb(), code)
-  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
-  return product satisfies ProductListItem
+  return (await getProduct(useDb(), code)) satisfies ProductListItem
 })

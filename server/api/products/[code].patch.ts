@@ -1,4 +1,4 @@
-import { updateProduct } from '../../repos/products'
+import { editProduct } from '../../services/products'
 import { productCodeParamSchema, productPatchSchema, type ProductListItem } from '../../../shared/utils/product'
 
 /** Engineers edit a product; its code and rated impedance are fixed once units exist (409 product_in_use). */
@@ -6,7 +6,5 @@ export default defineEventHandler(async (event) => {
   await requireRole(event, 'engineer')
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
   const changes = await readValidatedBody(event, zodValidator(productPatchSchema))
-  const product = await updateProduct(useDb(), code, changes)
-  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
-  return product satisfies ProductListItem
+  return (await editProduct(useDb(), code, changes)) satisfies ProductListItem
 })

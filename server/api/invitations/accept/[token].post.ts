@@ -10,6 +10,7 @@ import { acceptInvitationSchema, invitationTokenParamSchema } from '../../../../
 export default defineEventHandler(async (event) => {
   const { token } = await getValidatedRouterParams(event, zodValidator(invitationTokenParamSchema))
   const input = await readValidatedBody(event, zodValidator(acceptInvitationSchema))
+  // Hashed by the sign-in module with the server's settings, before the service sees it.
   const passwordHash = await hashPassword(input.password)
   const joined = await joinByInvitation(useDb(), token, { displayName: input.displayName, passwordHash }, clientAddress(event))
   setResponseStatus(event, 201)

@@ -1,5 +1,4 @@
-import { getProductByCode } from '../../../repos/products'
-import { getAlerting } from '../../../services/alerts'
+import { getProductAlerting } from '../../../services/products'
 import { productCodeParamSchema } from '../../../../shared/utils/product'
 import type { AlertingView } from '../../../../shared/utils/alerts'
 
@@ -7,7 +6,5 @@ import type { AlertingView } from '../../../../shared/utils/alerts'
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'quality', 'engineer')
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
-  const product = await getProductByCode(useDb(), code)
-  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
-  return (await getAlerting(useDb(), product.id)) satisfies AlertingView
+  return (await getProductAlerting(useDb(), code)) satisfies AlertingView
 })

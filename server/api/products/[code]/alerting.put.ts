@@ -1,5 +1,4 @@
-import { getProductByCode } from '../../../repos/products'
-import { setAlerting } from '../../../services/alerts'
+import { setProductAlerting } from '../../../services/products'
 import { productCodeParamSchema } from '../../../../shared/utils/product'
 import { alertingSchema, type AlertingView } from '../../../../shared/utils/alerts'
 
@@ -8,7 +7,5 @@ export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'quality', 'engineer')
   const { code } = await getValidatedRouterParams(event, zodValidator(productCodeParamSchema))
   const input = await readValidatedBody(event, zodValidator(alertingSchema))
-  const product = await getProductByCode(useDb(), code)
-  if (!product) throw new DomainError('product_not_found', `No product ${code}`)
-  return (await setAlerting(useDb(), product.id, input, user.id)) satisfies AlertingView
+  return (await setProductAlerting(useDb(), code, input, user.id)) satisfies AlertingView
 })
