@@ -1,7 +1,9 @@
 /**
  * Frequency grids and fractional-octave smoothing.
- * Base-10 octave ratio G = 10^(3/10) and exact mid-band frequencies f = 1000·G^(x/b)
- * for 1/b-octave bands (IEC 61260-1:2014, 5.2 and 5.4).
+ * Base-10 octave ratio G = 10^(3/10) and reference frequency 1 kHz of IEC 61260-1:2014 (5.2).
+ * The curve grid f = 1000·G^(x/24) is ours: every eighth point is an exact one-third-octave
+ * mid-band frequency (5.4, odd b: f = 1000·G^(x/b)); for an even b the standard shifts the
+ * mid-bands by half a band, so the other points are grid points, not its 1/24-octave mid-bands.
  */
 
 export const OCTAVE_RATIO_BASE10 = Math.pow(10, 3 / 10)
