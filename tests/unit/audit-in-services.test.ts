@@ -1,12 +1,10 @@
-import { readdirSync, readFileSync } from 'node:fs'
-import { join, relative, resolve } from 'node:path'
 import { describe, expect, it } from 'vitest'
+import { readSource, sourceFiles } from '../support/source'
 
 // Every audited action has one home: the service that does it writes the row through recordAudit
 // (server/services/audit.ts), the only caller of the repo's insert. Routes, repos, the mail module
 // and workers never write audit rows, so reading server/services lists every audited action.
 
-const ROOT = resolve(import.meta.dirname, '../..')
 const SCANNED = ['server', 'workers']
 
 /** A call of the audit insert, of the service function, or a query on the audit table. */
@@ -25,11 +23,7 @@ function auditWritesOutsideServices(file: string, src: string): string[] {
   return found
 }
 
-const files = SCANNED.flatMap((d) =>
-  readdirSync(join(ROOT, d), { recursive: true, encoding: 'utf8' })
-    .filter((f) => f.endsWith('.ts'))
-    .map((f) => relative(ROOT, join(ROOT, d, f))),
-)
+const files = sourceFiles(SCANNED, /\.ts$/)
 
 describe('audit rows are written from the service layer only', () => {
   it.each([
@@ -49,11 +43,11 @@ describe('audit rows are written from the service layer only', () => {
 
   it('finds no audit write in a route, repo, mail module or worker', () => {
     expect(files).toEqual(expect.arrayContaining(['server/services/audit.ts', 'server/repos/audit.ts', 'workers/analyze.ts']))
-    expect(files.flatMap((f) => auditWritesOutsideServices(f, readFileSync(join(ROOT, f), 'utf8')))).toEqual([])
+    expect(files.flatMap((f) => auditWritesOutsideServices(f, readSource(f)))).toEqual([])
   })
 
   it('every service that audits goes through recordAudit (the check above reads real calls)', () => {
-    const callers = files.filter((f) => /\brecordAudit\s*\(/.test(readFileSync(join(ROOT, f), 'utf8')))
+    const callers = files.filter((f) => /\brecordAudit\s*\(/.test(readSource(f)))
     expect(callers).toEqual(expect.arrayContaining(['server/services/people.ts', 'server/services/returns.ts', 'server/services/masks.ts', 'server/services/stations.ts', 'server/services/sign-in.ts', 'server/services/exports.ts']))
   })
 })

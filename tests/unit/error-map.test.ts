@@ -2,11 +2,10 @@
  * One way to fail: every code any layer can throw is in the one table with a status and a message,
  * and the one map (errorAnswer) turns each kind of error into the answer a station or a form reads.
  */
-import { readdirSync, readFileSync, statSync } from 'node:fs'
-import { join, relative } from 'node:path'
 import { createError } from 'h3'
 import { z } from 'zod'
 import { describe, expect, it } from 'vitest'
+import { readSource, sourceFiles } from '../support/source'
 import { ERROR_CODES, codeForStatus, isErrorCode } from '../../shared/utils/error-codes'
 import { DomainError } from '../../shared/utils/domain-error'
 import { ANALYSIS_ERROR_CODES, AnalysisInputError } from '../../server/analysis/errors'
@@ -27,8 +26,6 @@ import { StorageUnavailable } from '../../server/storage/recordings'
 import { ConfigError } from '../../server/utils/config'
 import { InputValidationError, RETRY_AFTER_S, errorAnswer, loggablePath, zodValidator } from '../../server/utils/errors'
 
-const ROOT = join(import.meta.dirname, '..', '..')
-
 const CODE_LISTS: Record<string, readonly string[]> = {
   'engine (server/analysis/errors.ts)': ANALYSIS_ERROR_CODES,
   'statistics (server/stats/errors.ts)': STATS_ERROR_CODES,
@@ -46,18 +43,10 @@ const CODE_LISTS: Record<string, readonly string[]> = {
   'single-code errors': [new StationConflict('x').code, new StorageUnavailable('ENOSPC', 'x').code, new ConfigError('x').code, 'invalid_input'],
 }
 
-function sourceFiles(dir: string): string[] {
-  return readdirSync(dir).flatMap((name) => {
-    const path = join(dir, name)
-    if (statSync(path).isDirectory()) return sourceFiles(path)
-    return /\.(ts|vue)$/.test(name) ? [path] : []
-  })
-}
-
 /** `new <a domain error class>('code'`: the classes that extend DomainError. */
 const DOMAIN_THROW = /new (?:DomainError|AnalysisInputError|StatsError|ProposeError|PeopleError|CertificateError|UploadRefused|GoldenError|ReturnError|UnitInputError|MaskStateError|InvitationError|ProductConflict|MailError)\(\s*'([a-z_]+)'/g
 
-const SERVER_FILES = [...sourceFiles(join(ROOT, 'server')), ...sourceFiles(join(ROOT, 'workers'))]
+const SERVER_FILES = sourceFiles(['server', 'workers'])
 
 describe('the one table of error codes', () => {
   it.each(Object.entries(CODE_LISTS))('gives every code of the %s a status and a message', (_, codes) => {
@@ -73,7 +62,7 @@ describe('the one table of error codes', () => {
   it('holds every code the server throws by name (a literal code outside the table would answer 500)', () => {
     const thrown = new Set<string>()
     for (const file of SERVER_FILES) {
-      for (const m of readFileSync(file, 'utf8').matchAll(DOMAIN_THROW)) thrown.add(m[1]!)
+      for (const m of readSource(file).matchAll(DOMAIN_THROW)) thrown.add(m[1]!)
     }
     expect(thrown.size).toBeGreaterThan(30)
     expect([...thrown].filter((c) => !isErrorCode(c))).toEqual([])
@@ -157,24 +146,22 @@ describe('the error log', () => {
 })
 
 describe('one place maps errors', () => {
-  const rel = (f: string) => relative(ROOT, f)
-
   it('has no route that catches an error (only an upload’s finally that removes its temp file)', () => {
-    const routes = SERVER_FILES.filter((f) => rel(f).startsWith(join('server', 'api')))
+    const routes = SERVER_FILES.filter((f) => f.startsWith('server/api/'))
     expect(routes.length).toBeGreaterThan(50)
-    const catching = routes.filter((f) => /\bcatch\s*[({]|\.catch\(/.test(readFileSync(f, 'utf8'))).map(rel)
+    const catching = routes.filter((f) => /\bcatch\s*[({]|\.catch\(/.test(readSource(f)))
     expect(catching).toEqual([])
-    const tries = routes.filter((f) => /\btry\s*\{/.test(readFileSync(f, 'utf8')))
-    for (const f of tries) expect(readFileSync(f, 'utf8'), rel(f)).toMatch(/finally \{\n\s*if \(file\) await rm\(file\.path/)
+    const tries = routes.filter((f) => /\btry\s*\{/.test(readSource(f)))
+    for (const f of tries) expect(readSource(f), f).toMatch(/finally \{\n\s*if \(file\) await rm\(file\.path/)
   })
 
   it('builds HTTP errors nowhere but in the error map', () => {
-    const building = SERVER_FILES.filter((f) => /\bcreateError\(|\bstatusCode:\s*\d/.test(readFileSync(f, 'utf8'))).map(rel)
+    const building = SERVER_FILES.filter((f) => /\bcreateError\(|\bstatusCode:\s*\d/.test(readSource(f)))
     expect(building).toEqual([])
   })
 
   it('keeps HTTP statuses out of domain errors (no `status` field, no status argument)', () => {
-    const offenders = SERVER_FILES.filter((f) => /new \w*(?:Error|Refused|Conflict)\(\s*\d{3}\b|readonly status\b/.test(readFileSync(f, 'utf8'))).map(rel)
+    const offenders = SERVER_FILES.filter((f) => /new \w*(?:Error|Refused|Conflict)\(\s*\d{3}\b|readonly status\b/.test(readSource(f)))
     expect(offenders).toEqual([])
   })
 })
@@ -186,9 +173,9 @@ describe('a route reads guard → validated input → one call → answer', () =
   const HTTP_SIDE = new Set(['requireRole', 'requireActor', 'requireUserOrStation', 'getValidatedRouterParams', 'getValidatedQuery', 'readValidatedBody', 'readMultipartUpload', 'getUserSession', 'startSession', 'endSession', 'hashPassword', 'chosenStation', 'useBoss', 'rm'])
 
   it('makes at most one awaited call into a service or repo', () => {
-    const routes = SERVER_FILES.filter((f) => relative(ROOT, f).startsWith(join('server', 'api')))
+    const routes = SERVER_FILES.filter((f) => f.startsWith('server/api/'))
     const busy = routes
-      .map((f) => [relative(ROOT, f), [...readFileSync(f, 'utf8').matchAll(/await (\w+)\(/g)].map((m) => m[1]!).filter((n) => !HTTP_SIDE.has(n))] as const)
+      .map((f) => [f, [...readSource(f).matchAll(/await (\w+)\(/g)].map((m) => m[1]!).filter((n) => !HTTP_SIDE.has(n))] as const)
       .filter(([, calls]) => calls.length > 1)
     expect(busy).toEqual([])
   })

@@ -1,13 +1,11 @@
-import { existsSync, readdirSync, readFileSync } from 'node:fs'
-import { join, relative, resolve } from 'node:path'
 import { describe, expect, it } from 'vitest'
+import { readSource, sourceFiles } from '../support/source'
 
 // SQL lives in server/repos (and in scripts/, seeds/, migrations/, which run outside the server).
 // Everything else calls a repo function, so a reader finds every query of an aggregate in one
 // file. This test reads the source the way the interpolated-SQL check in
 // tests/e2e/security-headers.test.ts does: a line that uses Knex outside the repos fails it.
 
-const ROOT = resolve(import.meta.dirname, '../..')
 /** Source folders that must hold no SQL (the Nuxt client folders included: they never may). */
 const SCANNED = ['server', 'workers', 'shared', 'fixtures', 'pages', 'components', 'composables', 'stores', 'middleware', 'plugins', 'layouts', 'utils']
 const REPOS = 'server/repos/'
@@ -44,14 +42,6 @@ const ALLOWED: { file: string | RegExp; use: string; reason: string }[] = [
     reason: 'a service spans repos, storage and the queue: it opens the transaction and passes it to each repo call',
   },
 ]
-
-function sourceFiles(): string[] {
-  return SCANNED.filter((d) => existsSync(join(ROOT, d))).flatMap((d) =>
-    readdirSync(join(ROOT, d), { recursive: true, encoding: 'utf8' })
-      .filter((f) => /\.(?:ts|vue)$/.test(f))
-      .map((f) => relative(ROOT, join(ROOT, d, f))),
-  )
-}
 
 /** `file:line: use` for each Knex use in the text that no exception covers. */
 function knexUsesOutsideRepos(file: string, src: string): string[] {
@@ -102,15 +92,15 @@ describe('SQL only in repos', () => {
   })
 
   it('no file outside server/repos, scripts/, seeds/ and migrations/ calls Knex', () => {
-    const files = sourceFiles()
+    const files = sourceFiles(SCANNED)
     expect(files.length).toBeGreaterThan(100)
     expect(files).toContain('server/services/alerts.ts')
-    expect(files.flatMap((f) => knexUsesOutsideRepos(f, readFileSync(join(ROOT, f), 'utf8')))).toEqual([])
+    expect(files.flatMap((f) => knexUsesOutsideRepos(f, readSource(f)))).toEqual([])
   })
 
   it('every exception still matches a use in its file (a stale one would hide nothing, and mislead)', () => {
     for (const a of ALLOWED.filter((x) => typeof x.file === 'string')) {
-      const src = readFileSync(join(ROOT, a.file as string), 'utf8')
+      const src = readSource(a.file as string)
       expect(KNEX_USES.find((u) => u.name === a.use)!.re.test(src), `${a.file}: ${a.use}`).toBe(true)
     }
   })
