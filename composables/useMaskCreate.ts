@@ -1,3 +1,4 @@
+import type { MaskView } from '#shared/types/api'
 import { maskCreateSchema } from '#shared/utils/mask'
 
 /** The proposal settings as the form holds them: an empty field means "the default". */
@@ -57,7 +58,8 @@ export function useMaskCreate() {
       return
     }
     await run(async () => {
-      const mask = await $fetch('/api/masks', { method: 'POST', body: parsed.data })
+      // Typed by hand: inferring a POST route's type inside a callback can exceed TypeScript's depth limit.
+      const mask = await $fetch<MaskView>('/api/masks', { method: 'POST', body: parsed.data })
       await refreshNuxtData('masks')
       await navigateTo(`/masks/${mask.id}`)
     })

@@ -43,7 +43,8 @@ export function useProductEditor() {
     }
   }
 
-  const create = (d: ProductDraft) => submit(d, (body) => $fetch('/api/products', { method: 'POST', body }))
+  // Typed by hand: inferring the route's type through submit() exceeds TypeScript's depth limit.
+  const create = (d: ProductDraft) => submit(d, (body) => $fetch<ProductListItem>('/api/products', { method: 'POST', body }))
   // A plain string URL: Nitro's typed-route inference overflows on template literals.
   const save = (code: string, d: ProductDraft) => {
     const url: string = `/api/products/${encodeURIComponent(code)}`

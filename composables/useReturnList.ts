@@ -25,7 +25,8 @@ export function useReturnRegister() {
   async function register(input: ReturnCreateInput): Promise<ReturnView | null> {
     let created: ReturnView | null = null
     await run(async () => {
-      created = await $fetch('/api/returns', { method: 'POST', body: input })
+      // Typed by hand: inferring a POST route's type inside a callback can exceed TypeScript's depth limit.
+      created = await $fetch<ReturnView>('/api/returns', { method: 'POST', body: input })
     })
     return created
   }

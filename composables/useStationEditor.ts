@@ -48,7 +48,8 @@ export function useStationEditor() {
 
   const create = (name: string, line: string, draft: ProfileDraft) =>
     run(async () => {
-      const r = await $fetch('/api/stations', { method: 'POST', body: { name, line, profile: profileOf(draft) } })
+      // Typed by hand: inferring a POST route's type inside a callback can exceed TypeScript's depth limit.
+      const r = await $fetch<StationToken>('/api/stations', { method: 'POST', body: { name, line, profile: profileOf(draft) } })
       issued.value = { name, token: r.token }
       return r
     })
