@@ -1,6 +1,6 @@
 import type { MaskPreview } from '#shared/types/api'
 
-/** How many recent results a preview reads by default (issue 5). */
+/** How many recent results a preview reads by default (enough for a yield to mean something, few enough to judge on request). */
 export const PREVIEW_DEFAULT_LAST = 2000
 
 /** The saved draft applied to the product's recent results, fetched on request (it reads many results). */

@@ -1,5 +1,5 @@
 /**
- * Invented returns for the demo (issue 7): which units come back, why, what the re-test finds and
+ * Invented returns for the demo: which units come back, why, what the re-test finds and
  * how support closes them. Pure data over the scenario plan; seeds/03-demo-returns.ts stores it.
  * Every customer, reference and story here is invented.
  */

@@ -104,7 +104,7 @@ export const PRODUCTS: DemoProduct[] = [
     sensitivityBandHz: [300, 3000],
     serialTag: '5W',
     coil: { awg: 31, turns: 184, meanDiameterMm: 26.6, layers: 4, strands: 1 },
-    // A four-layer copper coil of about 6.6 Ω (issue 5's check value is "about 6.5 Ω", common practice); Fs ≈ 58 Hz.
+    // A four-layer copper coil of about 6.6 Ω (a 5.25-inch 8 Ω woofer's coil is typically about 6.5 Ω: common practice, no source); Fs ≈ 58 Hz.
     nominal: { re20Ohm: 6.6, leH: 0.00045, blTm: 6.4, mmsKg: 0.0085, cmsMPerN: 0.000886, rmsKgPerS: 0.885, sdM2: 0.0085 },
     spread: TYPICAL_SPREAD,
     lots: [

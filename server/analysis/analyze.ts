@@ -2,7 +2,7 @@ import { AnalysisInputError } from './errors.ts'
 import { binInterp, irfft, nextPowerOfTwo, rfft } from './fft.ts'
 import { logSpaced, standardGrid } from './grid.ts'
 import { parseImpedanceTable } from './impedance-table.ts'
-import { stationProfileSchema, type ChannelRole, type StationProfile } from './profile.ts'
+import { stationProfileSchema, type ChannelRole, type StationProfile } from '../../shared/utils/station-profile.ts'
 import {
   fitSmallSignal,
   lowestMeasurableFsHz,
@@ -31,7 +31,11 @@ export const REFERENCE_PRESSURE_PA = 20e-6
 /** Drive for the sensitivity convention: 2.83 V RMS = 1 W into 8 Ω, referred to 1 m. */
 export const REFERENCE_DRIVE_V = 2.83
 export const REFERENCE_DISTANCE_M = 1
-/** Speed of sound in dry air: c = 331.3·√(1 + T/273.15) m/s (from memory; standard textbook form). */
+/**
+ * Speed of sound in dry air: c = 331.3·√(1 + T/273.15) m/s, the ideal-gas c = √(κ·R·T) with the dry-air
+ * constants of the ISO 2533 standard atmosphere (κ = 1.4, R = 287.05287 J/(kg·K)): 331.3 m/s at 0 °C,
+ * 343.2 m/s at 20 °C.
+ */
 export function speedOfSoundMs(tempC: number): number {
   return 331.3 * Math.sqrt(1 + tempC / 273.15)
 }
@@ -67,7 +71,7 @@ const NO_SOUND_SNR_DB = 10
 export const RUB_BUZZ_MIN_ORDER = 10
 /** Rub-and-buzz band floor: the buzz of a rubbing coil or a loose particle lies above it. */
 export const RUB_BUZZ_BAND_LOW_HZ = 1000
-/** Default rub-and-buzz limit (see docs/method.md for the rationale). */
+/** Default rub-and-buzz limit (our choice; the rationale is in docs/method.md, "Rub and buzz"). */
 export const RUB_BUZZ_LIMIT_DB = -50
 /** Cycles of the sweep per rub-and-buzz block. */
 const RUB_BUZZ_BLOCK_CYCLES = 2
@@ -580,7 +584,7 @@ function interpLog(f0: number, v0: number | null, f1: number, v1: number | null,
 }
 
 /**
- * Rub-and-buzz level (our metric, see docs/method.md): the high-order part of the deconvolved
+ * Rub-and-buzz level (our metric, see docs/method.md, "Rub and buzz"): the high-order part of the deconvolved
  * response (orders ≥ RUB_BUZZ_MIN_ORDER, which arrive earliest, Farina 2000) is re-convolved
  * with the stimulus, giving the high-order residual in time, band-limited to the buzz band.
  * Per block of two sweep cycles: peak residual over peak mic signal; the level is the worst block.

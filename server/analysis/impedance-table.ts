@@ -1,6 +1,6 @@
 import { AnalysisInputError } from './errors.ts'
 
-/** Fewest points accepted in an impedance table (issue 3). */
+/** Fewest points accepted in an impedance table (our minimum: fewer cannot sample the resonance and its flanks for a five-parameter fit). */
 export const MIN_TABLE_POINTS = 20
 const COMMENT_PREFIXES = ['#', ';', '*', '!']
 const NUMBER_RE = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/

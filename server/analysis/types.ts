@@ -1,4 +1,4 @@
-import type { ChannelRole } from './profile.ts'
+import type { ChannelRole } from '../../shared/utils/station-profile.ts'
 import type { ClassicalResult } from './small-signal.ts'
 
 export interface AnalyzeOptions {
@@ -50,7 +50,7 @@ export interface AnalysisParameters {
   thdPct: number | null
   thdMaxPct: number | null
   thdMaxAtHz: number | null
-  /** Rub-and-buzz level: peak high-order residual re the fundamental's peak, dB (see docs/method.md). */
+  /** Rub-and-buzz level: peak high-order residual re the fundamental's peak, dB (see docs/method.md, "Rub and buzz"). */
   rubBuzzDb: number | null
   rubBuzzAtHz: number | null
   rubBuzzLimitDb: number

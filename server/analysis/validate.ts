@@ -1,8 +1,8 @@
 import { AnalysisInputError } from './errors.ts'
-import type { ChannelRole, StationProfile } from './profile.ts'
+import type { ChannelRole, StationProfile } from '../../shared/utils/station-profile.ts'
 import { decodeChannel, parseWavLayout, type SampleEncoding } from './wav-reader.ts'
 
-/** Accepted station sample rates (issue 3: stations differ, any rate in this range is fine). */
+/** Accepted station sample rates (stations differ; any common audio rate from 44.1 to 192 kHz is fine). */
 export const MIN_SAMPLE_RATE_HZ = 44_100
 export const MAX_SAMPLE_RATE_HZ = 192_000
 /**

@@ -1,5 +1,6 @@
-/** Response types of the returns desk (issue 7). */
+/** Response types of the returns desk (support's page for units sent back from the field). */
 import type { CurveLimit } from './api'
+import type { Verdict } from '../utils/verdict'
 
 export type ReturnStatus = 'open' | 'closed'
 export type Disposition = 'no_fault_found' | 'confirmed_defect' | 'damaged_in_use' | 'other'
@@ -39,7 +40,7 @@ export interface ReturnAttachmentView {
 export interface ReturnTestView {
   recordingId: number
   status: 'queued' | 'analysing' | 'done' | 'rejected' | 'failed'
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
   uploadedAt: string
   originalName: string
   error: { code: string; message: string } | null
@@ -103,7 +104,7 @@ export interface CompareReading {
 export interface CompareTestRef {
   recordingId: number
   uploadedAt: string
-  verdict: 'pass' | 'fail' | null
+  verdict: Verdict | null
   maskVersion: number | null
   /** The station that ran the test (the re-test form starts on the factory test's one). */
   stationId: number | null

@@ -1,5 +1,5 @@
 /**
- * The returns desk in the browser (issue 7): support scans a returned unit's serial into the header
+ * The returns desk in the browser: support scans a returned unit's serial into the header
  * search box, registers the return from the unit's record, uploads a re-test recording, sees the
  * comparison with the factory test (delta table and trade-practice readings) and closes it with a
  * disposition. Seeds 1300–1309 (this file's part of the returns range 1200–1399).

@@ -1,5 +1,5 @@
 /**
- * Support finds a unit from the search box in the header (issue 7): a full serial typed as a
+ * Support finds a unit from the search box in the header: a full serial typed as a
  * scanner types it opens the unit's record with its verdict and figures; a prefix opens the list;
  * an unknown serial says "never tested here" with the nearest serial. Seeds 1150–1159.
  */

@@ -1,5 +1,5 @@
 /**
- * E-mail and alerts end to end (issue 6, "E-mail"): the worker evaluates the alert rules after each
+ * E-mail and alerts end to end: the worker evaluates the alert rules after each
  * result; the local mail sink of the test stack receives what goes out. The rule under test: yield of
  * the last 5 judged units of an open lot below 80 % opens ONE alert and ONE e-mail per episode.
  */
@@ -11,6 +11,7 @@ import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import type { MailboxEntry, MailboxList, MailboxMessage } from '../../shared/types/mail'
 import type { AlertView } from '../../shared/types/reports'
 import type { Role } from '../../shared/utils/roles'
+import type { Verdict } from '../../shared/utils/verdict'
 import { signIn, useTestServer } from '../support/app'
 import { closeTestDb, makeProduct, makeStation, releaseTestMask, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
@@ -66,7 +67,7 @@ async function until<T>(what: string, probe: () => Promise<T | undefined> | T | 
 }
 
 /** Uploads and analyses units of the lot one after another (production order). */
-async function units(verdicts: ('pass' | 'fail')[]) {
+async function units(verdicts: Verdict[]) {
   for (const v of verdicts) {
     const defect: Defect = v === 'fail' ? 'inverted_polarity' : 'none'
     const up = await postRecording(

@@ -77,7 +77,7 @@ const anyTable = fc.oneof({ weight: 4, arbitrary: nearTable }, { weight: 3, arbi
 function parseOrRefuse(text: string): string {
   try {
     const t = parseImpedanceTable(text)
-    // What the analysis relies on (issue 3's table rules): enough points, finite, rising, non-negative.
+    // What the analysis relies on (the table rules of parseImpedanceTable): enough points, finite, rising, non-negative.
     expect(t.freqHz.length).toBeGreaterThanOrEqual(MIN_TABLE_POINTS)
     expect(t.magOhm).toHaveLength(t.freqHz.length)
     expect(t.lines).toHaveLength(t.freqHz.length)

@@ -20,7 +20,7 @@ import {
 
 const { WaveFile } = wavefile
 
-/** At least this many inputs per property (issue 8). */
+/** At least this many inputs per property (our bar: enough generated and mutated files for a crash or hang on a rare layout to show). */
 const RUNS = 10_000
 /** A hang or a very slow input fails the run instead of being cut short silently. */
 const TIME_LIMIT_MS = 40_000

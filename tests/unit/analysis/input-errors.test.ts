@@ -33,7 +33,7 @@ function patched(bytes: Uint8Array, edit: (dv: DataView, b: Uint8Array) => void)
 
 const DATA_SIZE_OFFSET = 40 // 12 (RIFF) + 8 + 16 (fmt) + 4 ('data')
 
-describe('bad recordings are rejected with a code (issue 3), never guessed', () => {
+describe('bad recordings are rejected with a stable code, never guessed', () => {
   const cases: [string, AnalysisErrorCode, () => unknown][] = [
     ['empty file', 'empty_file', () => validateRecording(new Uint8Array(0), DEFAULT_PROFILE)],
     ['text, not RIFF', 'not_wave', () => validateRecording(new TextEncoder().encode('frequency,magnitude\n10,7.1\n'), DEFAULT_PROFILE)],
@@ -123,7 +123,7 @@ describe('decoder agrees with wavefile (an independent reader/writer)', () => {
   })
 })
 
-describe('impedance table errors name the line (issue 3)', () => {
+describe('impedance table errors name the line, so the station can fix its export', () => {
   const table = generateImpedanceTable({ points: 30 })
   const lines = table.split('\n')
   it.each([

@@ -13,7 +13,8 @@ import { profileWith, relErr } from './helpers.ts'
 /**
  * A resonance near the bottom of the sweep (a fatigued suspension, a woofer with a low Fs).
  * The generator's unit is the lumped model of Small (JAES 1972), so its Fs and Qms are the truth;
- * tolerances as the other engine tests (issue 3): Fs 1 %, Qms, Qes and Qts 3 %.
+ * tolerances as the other engine tests (our acceptance bar for the engine): Fs 1 %, Qms, Qes and
+ * Qts 3 %.
  * Common practice: the sweep starts at least about half an octave below Fs for a trustworthy Fs
  * and Qms, so with the demo's 20 Hz sweep the engine reports Fs from 20·√2 ≈ 28.3 Hz up.
  */

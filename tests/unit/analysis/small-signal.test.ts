@@ -29,7 +29,7 @@ function bisect(g: (x: number) => number, a: number, b: number): number {
 }
 
 describe('classical three-point method (Small, JAES 1972 model, Le = 0)', () => {
-  // Worked example of issue 3: Re 6 Ω, Fs 50 Hz, Qms 4, Qes 0.4 → Zmax 66 Ω,
+  // Worked example, checked by hand from the model: Re 6 Ω, Fs 50 Hz, Qms 4, Qes 0.4 → Zmax 66 Ω,
   // |Z| = √(Re·Zmax) at f1 = 33.398 Hz and f2 = 74.855 Hz; formulas return Qms 4.000, Qes 0.400, Qts 0.364.
   const p: SmallSignalParams = { reOhm: 6, leH: 0, fsHz: 50, qms: 4, qes: 0.4 }
 
@@ -61,7 +61,8 @@ describe('classical three-point method (Small, JAES 1972 model, Le = 0)', () => 
 })
 
 describe('least-squares fit recovers the lumped model (Small 1972)', () => {
-  // Tolerances from issue 3: Fs 1 %, Re 1 %, Qms/Qes/Qts 3 %, Le 10 %.
+  // Tolerances (our acceptance bar for the engine): Fs 1 %, Re 1 %, Qms/Qes/Qts 3 %, Le 10 % (no mask
+  // limits Le).
   const cases: [string, SmallSignalParams, number][] = [
     ['woofer, realistic Le 0.6 mH, 0.5 % noise', { reOhm: 5.86, leH: 0.0006, fsHz: 41.7, qms: 4.3, qes: 0.38 }, 0.005],
     ['midrange, Le 0.15 mH, 1 % noise', { reOhm: 3.3, leH: 0.00015, fsHz: 85, qms: 2.5, qes: 0.6 }, 0.01],

@@ -77,7 +77,7 @@ describe('synthetic station recordings (fixtures/generator.ts)', () => {
     expect(r.flags.rubBuzz).toBe(false)
     expect(r.unmeasured).toEqual([])
     expect(r.parameters.snrDb.mic!).toBeGreaterThan(40)
-    // acoustic delay r/c = 0.1 m / 343 m/s ≈ 0.29 ms (from memory: c ≈ 343 m/s at 20 °C)
+    // acoustic delay r/c = 0.1 m / 343 m/s ≈ 0.29 ms (c ≈ 343 m/s at 20 °C: √(κ·R·T) with the ISO 2533 dry-air constants)
     expect(r.parameters.acousticDelayMs!).toBeGreaterThan(0.2)
     expect(r.parameters.acousticDelayMs!).toBeLessThan(0.6)
   })
