@@ -39,7 +39,3 @@ export class AnalysisInputError extends DomainError<AnalysisErrorCode> {
     this.channel = detail.channel
   }
 }
-
-export function isAnalysisInputError(e: unknown): e is AnalysisInputError {
-  return e instanceof AnalysisInputError
-}

@@ -1,6 +1,6 @@
 /** Conetrail measurement engine: pure functions, no framework, database or HTTP imports. */
 export { ENGINE_VERSION } from './version.ts'
-export { ANALYSIS_ERROR_CODES, AnalysisInputError, isAnalysisInputError, type AnalysisErrorCode } from './errors.ts'
+export { ANALYSIS_ERROR_CODES, AnalysisInputError, type AnalysisErrorCode } from './errors.ts'
 export {
   CHANNEL_ROLES,
   DEFAULT_PROFILE,

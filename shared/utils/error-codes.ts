@@ -124,11 +124,6 @@ export function isErrorCode(value: unknown): value is ErrorCode {
   return typeof value === 'string' && Object.hasOwn(ERROR_CODES, value)
 }
 
-/** The HTTP status of a code. */
-export function errorStatus(code: ErrorCode): number {
-  return ERROR_CODES[code].status
-}
-
 /**
  * The code an error answer without one gets, by its status (a 404 for an unknown path, a 405,
  * a 413 or 429 from a module that sets no code), so every error body carries data.code.
