@@ -5,9 +5,6 @@ import type { StationProfile } from '../analysis/index.ts'
 import type { StationView } from '../../shared/types/api.ts'
 import { isUniqueViolation } from './pg-errors.ts'
 
-/** A station as the API shows it, with its profile typed by the engine's schema. */
-export type StationSummary = Omit<StationView, 'profile'> & { profile: StationProfile }
-
 const TOKEN_PREFIX = 'ctst_'
 
 /** A new station token: shown once, stored only as its SHA-256 (it is 256 random bits, so no slow hash is needed). */
@@ -39,7 +36,7 @@ interface StationJoinRow {
   last_upload_at: Date | null
 }
 
-function toStation(r: StationJoinRow): StationSummary {
+function toStation(r: StationJoinRow): StationView {
   return {
     id: Number(r.id),
     name: r.name,
@@ -59,17 +56,17 @@ function stationsQuery(db: Knex) {
   return db('stations as s').join(currentProfile(db), 'cp.station_id', 's.id').select('s.id', 's.name', 's.line', 's.active', 's.token_hint', 'cp.profile_id', 'cp.version', 'cp.profile', lastUpload)
 }
 
-export async function listStations(db: Knex): Promise<StationSummary[]> {
+export async function listStations(db: Knex): Promise<StationView[]> {
   return (await stationsQuery(db).orderBy('s.name')).map(toStation)
 }
 
-export async function getStation(db: Knex, id: number): Promise<StationSummary | undefined> {
+export async function getStation(db: Knex, id: number): Promise<StationView | undefined> {
   const r = await stationsQuery(db).where('s.id', id).first()
   return r && toStation(r)
 }
 
 /** The active station whose token this is, or undefined. */
-export async function getStationByToken(db: Knex, token: string): Promise<StationSummary | undefined> {
+export async function getStationByToken(db: Knex, token: string): Promise<StationView | undefined> {
   const r = await stationsQuery(db).where({ 's.token_hash': hashToken(token), 's.active': true }).first()
   return r && toStation(r)
 }
@@ -138,7 +135,7 @@ export interface StationPatch {
  * Edits a station; a changed profile becomes a new version (results keep the version they used).
  * @throws StationConflict for a name another station has.
  */
-export async function updateStation(db: Knex, id: number, patch: StationPatch, by: number | null): Promise<StationSummary | undefined> {
+export async function updateStation(db: Knex, id: number, patch: StationPatch, by: number | null): Promise<StationView | undefined> {
   return guardName(patch.name, () =>
     db.transaction(async (trx) => {
       const station = await trx('stations').where({ id }).forUpdate().first()

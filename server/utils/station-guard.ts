@@ -1,12 +1,13 @@
 import type { H3Event } from 'h3'
 import type { User } from '#auth-utils'
-import { getStation, getStationByToken, type StationSummary } from '../repos/stations'
+import { getStation, getStationByToken } from '../repos/stations'
+import type { StationView } from '../../shared/types/api'
 import type { UploadSource } from '../services/ingest'
 import type { Role } from '../../shared/utils/roles'
 import { useDb } from './db'
 import { DomainError } from '../../shared/utils/domain-error'
 
-export type Caller = { kind: 'user'; user: User } | { kind: 'station'; station: StationSummary }
+export type Caller = { kind: 'user'; user: User } | { kind: 'station'; station: StationView }
 
 /**
  * Who is calling: a station with `Authorization: Bearer <token>`, or a signed-in person of one of `roles`.
@@ -23,7 +24,7 @@ export async function requireUserOrStation(event: H3Event, ...roles: Role[]): Pr
 }
 
 /** A station as the ingest service takes it: its id, current profile and that profile's id. */
-export function uploadStation(station: StationSummary | undefined): UploadSource['station'] {
+export function uploadStation(station: StationView | undefined): UploadSource['station'] {
   return station ? { id: station.id, profileId: station.profileId, profile: station.profile } : null
 }
 
@@ -31,7 +32,7 @@ export function uploadStation(station: StationSummary | undefined): UploadSource
  * The station a signed-in person chose for an upload (none chosen: undefined).
  * @throws 422 `unknown_station` when it does not exist or is retired.
  */
-export async function chosenStation(id: number | undefined): Promise<StationSummary | undefined> {
+export async function chosenStation(id: number | undefined): Promise<StationView | undefined> {
   if (id === undefined) return undefined
   const station = await getStation(useDb(), id)
   if (!station?.active) throw new DomainError('unknown_station', `No active station with id ${id}`)
