@@ -1,4 +1,5 @@
 import type { ChannelRole } from '../../shared/utils/station-profile.ts'
+import type { ResultFigures } from '../../shared/types/api.ts'
 import type { ClassicalResult } from './small-signal.ts'
 
 export interface AnalyzeOptions {
@@ -26,32 +27,12 @@ export interface ThdAtPoint {
 
 export type PerChannel<T> = { mic: T; drive: T; sense: T }
 
-export interface AnalysisParameters {
-  /** Re as measured (at the test temperature). */
-  reOhm: number | null
-  /** Re referred to 20 °C (copper, IEC 60028); null without an ambient temperature. */
-  re20Ohm: number | null
-  ambientC: number | null
-  fsHz: number | null
-  qms: number | null
-  qes: number | null
-  qts: number | null
-  leMh: number | null
-  zmaxOhm: number | null
-  /** Minimum of |Z| above Fs (rated-impedance check, IEC 60268-5). */
-  zminOhm: number | null
+export interface AnalysisParameters extends ResultFigures {
   fZminHz: number | null
   /** RMS relative misfit of the small-signal model, %. */
   fitErrorPct: number | null
-  /** Mean dB SPL at 2.83 V / 1 m over the sensitivity band. */
-  sensitivityDb: number | null
   sensitivityBandHz: [number, number]
-  /** THD at 1 kHz, %. */
-  thdPct: number | null
-  thdMaxPct: number | null
   thdMaxAtHz: number | null
-  /** Rub-and-buzz level: peak high-order residual re the fundamental's peak, dB (see docs/method.md, "Rub and buzz"). */
-  rubBuzzDb: number | null
   rubBuzzAtHz: number | null
   rubBuzzLimitDb: number
   /** Delay of the acoustic impulse behind the drive, ms. */

@@ -74,8 +74,11 @@ export interface RecordingSummary {
   error: { code: string; message: string } | null
 }
 
-export interface ResultParameters {
+/** The figures every result carries, as the pages read them; the engine's AnalysisParameters extends them. */
+export interface ResultFigures {
+  /** Re as measured (at the test temperature). */
   reOhm: number | null
+  /** Re referred to 20 °C (copper, IEC 60028); null without an ambient temperature. */
   re20Ohm: number | null
   ambientC: number | null
   fsHz: number | null
@@ -84,11 +87,19 @@ export interface ResultParameters {
   qts: number | null
   leMh: number | null
   zmaxOhm: number | null
+  /** Minimum of |Z| above Fs (rated-impedance check, IEC 60268-5). */
   zminOhm: number | null
+  /** Mean dB SPL at 2.83 V / 1 m over the sensitivity band. */
   sensitivityDb: number | null
+  /** THD at 1 kHz, %. */
   thdPct: number | null
   thdMaxPct: number | null
+  /** Rub-and-buzz level: peak high-order residual re the fundamental's peak, dB (see docs/method.md, "Rub and buzz"). */
   rubBuzzDb: number | null
+}
+
+/** A stored result's parameters: the figures above and whatever else the engine version recorded. */
+export interface ResultParameters extends ResultFigures {
   [name: string]: unknown
 }
 
