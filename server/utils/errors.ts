@@ -75,6 +75,9 @@ function domainErrorOf(error: unknown): DomainError | undefined {
   return undefined
 }
 
+/** A path segment this long is a token or a link's secret, never a name a person typed (serials are shorter by habit). */
+const OPAQUE_SEGMENT_LENGTH = 24
+
 /**
  * A request path fit for the log: the query is dropped and any long opaque segment (invitation
  * links, tokens) is cut, so a secret in a URL never reaches the log.
@@ -83,7 +86,7 @@ export function loggablePath(path: string): string {
   return path
     .split('?')[0]!
     .split('/')
-    .map((seg) => (seg.length >= 16 && /^[\w~.%-]+$/.test(seg) && /\d/.test(seg) ? '…' : seg))
+    .map((seg) => (seg.length >= OPAQUE_SEGMENT_LENGTH ? '…' : seg))
     .join('/')
 }
 

@@ -137,6 +137,7 @@ describe('errorAnswer: the one map from an error to its answer', () => {
 describe('the error log', () => {
   it.each([
     ['/api/invitations/accept/Zm9vYmFyYmF6cXV4MTIzNDU2Nzg5MA', '/api/invitations/accept/…'],
+    ['/invite/AbCdEfGhIjKlMnOpQrStUvWxYzAbCdEfGhIjKlMnOpQ', '/invite/…'],
     ['/api/recordings?token=ct_abcdef0123456789abcdef&limit=1', '/api/recordings'],
     ['/api/units/WF8-2412-00017', '/api/units/WF8-2412-00017'],
     ['/api/masks/12/release', '/api/masks/12/release'],
