@@ -20,7 +20,7 @@ export const ERROR_CODES = {
 
   // Who is asking.
   unauthenticated: { status: 401, message: 'Sign in first' },
-  invalid_credentials: { status: 401, message: 'E-mail or password is wrong' },
+  invalid_credentials: { status: 401, message: 'Wrong e-mail or password' },
   invalid_token: { status: 401, message: 'This station token is not valid (revoked or mistyped)' },
   forbidden: { status: 403, message: 'Your role does not allow this' },
   wrong_station: { status: 403, message: 'This token belongs to another station' },

@@ -9,11 +9,11 @@ export const CHANNEL_ROLES = ['mic', 'drive', 'sense'] as const
 export type ChannelRole = (typeof CHANNEL_ROLES)[number]
 
 export const sweepSchema = z.object({
-  f1Hz: z.number().positive(),
-  f2Hz: z.number().positive(),
-  durationS: z.number().positive().max(60),
-  preSilenceS: z.number().min(0).max(10),
-  levelVrms: z.number().positive(),
+  f1Hz: z.number().positive('Sweep start (f1Hz) must be above 0 Hz'),
+  f2Hz: z.number().positive('Sweep end (f2Hz) must be above 0 Hz'),
+  durationS: z.number().positive('Sweep length (durationS) must be above 0 s').max(60, 'Sweep length (durationS) must be at most 60 s'),
+  preSilenceS: z.number().min(0, 'Silence before the sweep (preSilenceS) cannot be negative').max(10, 'Silence before the sweep (preSilenceS) must be at most 10 s'),
+  levelVrms: z.number().positive('Drive level (levelVrms) must be above 0 V RMS'),
 })
 
 /** Demo defaults (the audio band in one second, at half a watt into 8 Ω): 20 Hz–20 kHz, 1.0 s, 0.05 s pre-silence, 2.0 V RMS. */
@@ -28,10 +28,10 @@ export const DEFAULT_SWEEP = {
 export const stationProfileSchema = z
   .object({
     channels: z.array(z.enum(CHANNEL_ROLES)).min(1).max(3).default(['mic', 'drive', 'sense']),
-    fullScaleV: z.array(z.number().positive()).min(1).max(3).default([1, 20, 2]),
-    micSensitivityVPerPa: z.number().positive().default(0.02),
-    micDistanceM: z.number().positive().default(0.1),
-    senseResistorOhm: z.number().positive().default(1.0),
+    fullScaleV: z.array(z.number().positive('Each full-scale voltage (fullScaleV) must be above 0 V')).min(1).max(3).default([1, 20, 2]),
+    micSensitivityVPerPa: z.number().positive('Microphone sensitivity (micSensitivityVPerPa) must be above 0 V/Pa').default(0.02),
+    micDistanceM: z.number().positive('Microphone distance (micDistanceM) must be above 0 m').default(0.1),
+    senseResistorOhm: z.number().positive('Sense resistor (senseResistorOhm) must be above 0 Ω').default(1.0),
     sweep: sweepSchema.default({ ...DEFAULT_SWEEP }),
   })
   .superRefine((p, ctx) => {

@@ -37,4 +37,30 @@ describe('an engineer sets up a station in the browser', () => {
     expect(await tokenWorks(first)).toBe(401)
     await page.close()
   })
+
+  it('keeps a refused calibration edit open with the field named in words, then saves the corrected one', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
+    await signInAs(page, baseUrl, 'engineer', '/stations')
+    const name = unique('Line 8 EOL')
+    await page.getByRole('button', { name: 'Add a station' }).click()
+    await page.fill('input[name=station-name]', name)
+    await page.getByRole('button', { name: 'Create station' }).click()
+    await page.getByRole('button', { name: 'I have copied it' }).click()
+
+    const card = page.locator('article', { hasText: name })
+    await card.getByRole('button', { name: 'Edit calibration' }).click()
+    const level = card.getByLabel('Drive level')
+    await level.fill('-3')
+    await card.getByRole('button', { name: 'Save as profile v2' }).click()
+    await expect.poll(() => page.getByRole('alert').textContent()).toBe('Drive level (levelVrms) must be above 0 V RMS')
+    // Still open, still holding what was typed.
+    expect(await level.inputValue()).toBe('-3')
+
+    await level.fill('2.5')
+    await card.getByRole('button', { name: 'Save as profile v2' }).click()
+    await expect.poll(() => card.getByRole('button', { name: 'Edit calibration' }).count()).toBe(1)
+    await expect.poll(() => card.textContent()).toContain('profile v2')
+    expect(await page.getByRole('alert').count()).toBe(0)
+    await page.close()
+  })
 })

@@ -19,9 +19,20 @@ const post = (path: string, body: string, cookie = '') =>
   fetch(path, { method: 'POST', headers: { 'content-type': 'application/json', accept: 'application/json', cookie }, body })
 
 describe('error answers', () => {
-  it('gives an API path that does not exist 404 not_found', async () => {
-    const [status, body] = await answer(await fetch('/api/no-such-thing', { headers: { accept: 'application/json' } }))
+  it.each(['/api/no-such-thing', '/api', '/api/'])('gives an API path that does not exist (%s) 404 not_found', async (path) => {
+    const [status, body] = await answer(await fetch(path, { headers: { accept: 'application/json' }, redirect: 'manual' }))
     expect([status, body.statusCode, body.data.code]).toEqual([404, 404, 'not_found'])
+  })
+
+  it.each([
+    ['GET', '/api/auth/login'],
+    ['DELETE', '/api/auth/login'],
+    ['PUT', '/api/products'],
+  ])('gives %s %s, a method no route serves there, 405 method_not_allowed (not a page, not a redirect)', async (method, path) => {
+    const res = await fetch(path, { method, headers: { accept: 'application/json' }, redirect: 'manual' })
+    expect(res.headers.get('content-type')).toMatch(/json/)
+    const [status, body] = await answer(res)
+    expect([status, body.data.code]).toEqual([405, 'method_not_allowed'])
   })
 
   it('gives a body that is not JSON 400 bad_request', async () => {
