@@ -1,3 +1,4 @@
+import type { Page } from 'playwright-core'
 import { describe, expect, inject, it } from 'vitest'
 import { signInAs, useBrowser } from '../support/browser'
 import { unique } from '../support/db'
@@ -9,16 +10,21 @@ async function tokenWorks(token: string): Promise<number> {
   return (await fetch(new URL('/api/recordings?limit=1', baseUrl), { headers: { authorization: `Bearer ${token}` } })).status
 }
 
+/** Adds a station on the Stations page; the token notice is then open. */
+async function addStation(page: Page, name: string, line = '7') {
+  await page.getByRole('button', { name: 'Add a station' }).click()
+  await page.fill('input[name=station-name]', name)
+  await page.fill('input[name=station-line]', line)
+  await page.getByRole('button', { name: 'Create station' }).click()
+}
+
 describe('an engineer sets up a station in the browser', () => {
   it('creates it, copies the token shown once, and replaces the token', async () => {
     const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
     await signInAs(page, baseUrl, 'engineer', '/stations')
 
     const name = unique('Line 7 EOL')
-    await page.getByRole('button', { name: 'Add a station' }).click()
-    await page.fill('input[name=station-name]', name)
-    await page.fill('input[name=station-line]', '7')
-    await page.getByRole('button', { name: 'Create station' }).click()
+    await addStation(page, name)
 
     const notice = page.getByTestId('station-token')
     await expect.poll(() => notice.textContent()).toContain(name)
@@ -42,9 +48,7 @@ describe('an engineer sets up a station in the browser', () => {
     const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
     await signInAs(page, baseUrl, 'engineer', '/stations')
     const name = unique('Line 8 EOL')
-    await page.getByRole('button', { name: 'Add a station' }).click()
-    await page.fill('input[name=station-name]', name)
-    await page.getByRole('button', { name: 'Create station' }).click()
+    await addStation(page, name, '8')
     await page.getByRole('button', { name: 'I have copied it' }).click()
 
     const card = page.locator('article', { hasText: name })
