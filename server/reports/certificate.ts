@@ -8,7 +8,7 @@ import type { RecordingCurves, RecordingView } from '../../shared/types/api.ts'
 import type { UnitView } from '../../shared/types/units.ts'
 import { limitAtHz } from '../../shared/utils/mask.ts'
 import { parameterRows } from '../../shared/utils/units.ts'
-import { renderA4Pdf, toWinAnsi, type Doc } from './pdf-document.ts'
+import { A4, renderA4Pdf, toWinAnsi, type Doc } from './pdf-document.ts'
 
 export interface CertificateData {
   unit: UnitView
@@ -18,7 +18,7 @@ export interface CertificateData {
   issuedAt: string
 }
 
-const PAGE = { width: 595.28, height: 841.89, margin: 56 }
+const PAGE = { ...A4, margin: 56 }
 const INK = '#141c24'
 const MUTED = '#5f6b78'
 const RULE = '#c9c4b8'

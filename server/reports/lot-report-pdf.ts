@@ -7,11 +7,11 @@
  * Text is cut to fit its box, so no page overflows into an unplanned one.
  */
 import type { ControlChartView, FigureDistribution, LotReport } from '../../shared/types/reports.ts'
-import { renderA4Pdf, toWinAnsi, type Doc } from './pdf-document.ts'
+import { A4, renderA4Pdf, toWinAnsi, type Doc } from './pdf-document.ts'
 
 export const LOT_REPORT_PAGES = 3
 
-const PAGE = { width: 595.28, height: 841.89, margin: 48 }
+const PAGE = { ...A4, margin: 48 }
 const INK = '#1d1d1b'
 const MUTED = '#6b6b66'
 const BAR = '#8a6a4a'

@@ -3,6 +3,9 @@ import PDFDocument from 'pdfkit'
 
 export type Doc = InstanceType<typeof PDFDocument>
 
+/** An A4 page in PDF points (ISO 216: 210 × 297 mm at 72 points per inch). */
+export const A4 = { width: 595.28, height: 841.89 } as const
+
 /** Letters the built-in Helvetica (WinAnsi encoding) lacks, spelled out; anything else outside it becomes "?". */
 const SPELLED: Record<string, string> = { 'σ': ' sigma', 'Ω': 'ohm', '−': '-', '≥': '>=', '≤': '<=', '→': '->' }
 const WIN_ANSI_EXTRA = new Set('€‚ƒ„…†‡ˆ‰Š‹ŒŽ‘’“”•–—˜™š›œžŸ')
