@@ -117,6 +117,8 @@ describe('finding a unit from any page', () => {
     const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
     await signInAs(page, baseUrl, 'technician', '/bench')
     await hydrated(page)
+    // The bench puts focus in its serial field once mounted; wait for that, so it cannot land after the click below.
+    await expect.poll(() => page.evaluate(() => document.activeElement?.getAttribute('name'))).toBe('serial')
     // "/" jumps to the search box from anywhere outside a field.
     await page.locator('body').click({ position: { x: 5, y: 300 } })
     await page.keyboard.press('/')
