@@ -66,7 +66,7 @@ export async function runAnalyzeWorker(hooks: WorkerHooks = {}): Promise<void> {
         throw err
       }
       if (isLastTry(job)) {
-        await failForGood(db, id, message)
+        await failForGood(db, id)
         log(`recording ${id}: failed for good after ${job.retryCount + 1} tries: ${message}`)
         return
       }

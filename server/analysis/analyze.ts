@@ -67,6 +67,7 @@ export const SHORTED_COIL_OHM = 0.5
 export const LOW_SNR_DB = 30
 /** A mic channel below this SNR carries no usable sound. */
 const NO_SOUND_SNR_DB = 10
+const NO_RESONANCE_NOTE = 'No resonance: the impedance shows no resonance peak (a blocked cone, or no driver connected).'
 /** Lowest harmonic order counted as rub and buzz. */
 export const RUB_BUZZ_MIN_ORDER = 10
 /** Rub-and-buzz band floor: the buzz of a rubbing coil or a loose particle lies above it. */
@@ -230,6 +231,25 @@ function gateLowResonance(
   return { fig, note: null }
 }
 
+/**
+ * The impedance magnitude may stand this far above its minimum at the lowest frequency and still
+ * count as not falling from there (our figure: a resonance below the data lifts it by 10 % or more
+ * within two octaves of a driver's Fs; measurement noise stays well under 5 %).
+ */
+const NOT_FALLING_RATIO = 1.05
+
+/**
+ * No fit, no resonance withheld at the bottom of the data, and a magnitude that does not fall from
+ * its lowest frequency (so no resonance lies below the data either): the impedance has no
+ * resonance at all, a unit fault. Data that starts above a resonance is not this: it falls first.
+ */
+function showsNoResonance(gated: { fig: ImpedanceFigures; note: string | null }, mag: readonly number[]): boolean {
+  if (gated.fig.fit || gated.note !== null || !mag.length) return false
+  let min = Number.POSITIVE_INFINITY
+  for (const m of mag) min = Math.min(min, m)
+  return mag[0]! <= NOT_FALLING_RATIO * min
+}
+
 function applyFit(params: AnalysisParameters, fig: ImpedanceFigures, ambientC: number | undefined): void {
   const f = fig.fit
   if (!f) return
@@ -290,6 +310,7 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
     clippedChannels: v.stats.filter((s) => s.clipped).map((s) => s.role),
     lowSnrChannels: v.stats.filter((s) => s.snrDb !== null && s.snrDb < LOW_SNR_DB).map((s) => s.role),
     rubBuzz: null,
+    noResonance: false,
   }
 
   // Coil continuity: a station fault was already rejected by validation; what is left is the unit.
@@ -387,12 +408,14 @@ export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, o
       zim.push((-R * yi) / d)
       zmag.push(R / Math.sqrt(d))
     }
-    const { fig, note } = gateLowResonance(fitImpedance(fre, zre, zim, zmag), { freqHz: fre, re: zre, mag: zmag }, 'sweep', sweep.f1Hz)
+    const gated = gateLowResonance(fitImpedance(fre, zre, zim, zmag), { freqHz: fre, re: zre, mag: zmag }, 'sweep', sweep.f1Hz)
+    const { fig, note } = gated
     classical = fig.classical
     applyFit(params, fig, options.ambientC)
     if (!fig.fit) {
       unmeasured.push('small_signal')
-      notes.push(note ?? 'The impedance shows no resonance peak to fit.')
+      flags.noResonance = showsNoResonance(gated, zmag)
+      notes.push(note ?? NO_RESONANCE_NOTE)
     }
     if (curves.impedanceOhm && params.fsHz) {
       const zm = zminAbove(freqHz, curves.impedanceOhm, params.fsHz)
@@ -686,9 +709,22 @@ export function analyzeImpedanceTable(text: string, options: Pick<AnalyzeOptions
   // Same fit band as for sweeps.
   const idx = tf.map((f, i) => i).filter((i) => tf[i]! <= FIT_HIGH_HZ)
   const pick = <T>(a: T[]): T[] => idx.map((i) => a[i]!)
+  const flags: AnalysisFlags = { polarity: null, openCoil: false, shortedCoil: false, clippedChannels: [], lowSnrChannels: [], rubBuzz: null, noResonance: false }
+  const notes = ['Impedance table: no acoustic result.']
+  const unmeasured = ['spl', 'sensitivity', 'polarity', 'distortion', 'rub_buzz']
+  // Coil continuity from the table itself: its lowest magnitude is the coil's resistance or less.
+  const lowestOhm = Math.min(...magOhm)
+  flags.openCoil = lowestOhm > OPEN_COIL_OHM
+  flags.shortedCoil = lowestOhm < SHORTED_COIL_OHM
+  if (flags.openCoil) notes.push(`Open coil: the table reads at least ${lowestOhm.toPrecision(3)} Ω at every frequency.`)
+  if (flags.shortedCoil) notes.push(`Shorted coil: the table reads ${lowestOhm.toPrecision(3)} Ω at its lowest.`)
   const tFit = performance.now()
   const fitData = { freqHz: pick(tf), re: re && pick(re), mag: pick(magOhm) }
-  const { fig, note } = gateLowResonance(fitImpedance(fitData.freqHz, fitData.re, im && pick(im), fitData.mag), fitData, 'table')
+  const unitDead = flags.openCoil || flags.shortedCoil
+  const gated = unitDead
+    ? { fig: { fit: null, classical: null }, note: 'Impedance not fitted: the coil is open or shorted.' }
+    : gateLowResonance(fitImpedance(fitData.freqHz, fitData.re, im && pick(im), fitData.mag), fitData, 'table')
+  const { fig, note } = gated
   applyFit(params, fig, options.ambientC)
   const fitMs = performance.now() - tFit
   curves.impedanceOhm = grid.map((f) => interpTable(tf, magOhm, f))
@@ -700,11 +736,10 @@ export function analyzeImpedanceTable(text: string, options: Pick<AnalyzeOptions
       params.fZminHz = zm.f
     }
   }
-  const unmeasured = ['spl', 'sensitivity', 'polarity', 'distortion', 'rub_buzz', 'coil_continuity']
-  const notes = ['Impedance table: no acoustic result.']
   if (!fig.fit) {
     unmeasured.push('small_signal')
-    notes.push(note ?? 'The table shows no resonance peak to fit.')
+    flags.noResonance = showsNoResonance(gated, fitData.mag)
+    notes.push(note ?? NO_RESONANCE_NOTE)
   }
   if (!phaseDeg) notes.push('No phase column: the fit used the magnitude only.')
   const total = performance.now() - tStart
@@ -717,7 +752,7 @@ export function analyzeImpedanceTable(text: string, options: Pick<AnalyzeOptions
     parameters: params,
     classical: fig.classical,
     curves,
-    flags: { polarity: null, openCoil: false, shortedCoil: false, clippedChannels: [], lowSnrChannels: [], rubBuzz: null },
+    flags,
     thdAt: [],
     unmeasured,
     notes,

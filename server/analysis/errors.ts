@@ -23,6 +23,10 @@ export const ANALYSIS_ERROR_CODES = [
   'table_not_increasing',
   'table_negative_magnitude',
   'table_unparsable',
+  'table_out_of_range',
+  'table_too_many_points',
+  'table_band_too_narrow',
+  'not_measured',
 ] as const satisfies readonly ErrorCode[]
 
 export type AnalysisErrorCode = (typeof ANALYSIS_ERROR_CODES)[number]

@@ -2,6 +2,19 @@ import { AnalysisInputError } from './errors.ts'
 
 /** Fewest points accepted in an impedance table (our minimum: fewer cannot sample the resonance and its flanks for a five-parameter fit). */
 export const MIN_TABLE_POINTS = 20
+/**
+ * Most points accepted (our limit: analysers export a few hundred to a few thousand points; the
+ * analysis resamples to a 1/24-octave grid, so more adds nothing but time and memory).
+ */
+export const MAX_TABLE_POINTS = 10_000
+/** Most lines of any kind (points, comments, blank lines) read before the table is refused. */
+export const MAX_TABLE_LINES = 20_000
+/** Frequencies a table may hold, Hz: a driver's impedance is measured within the audio band and a little beyond. */
+export const TABLE_FREQ_RANGE_HZ: readonly [number, number] = [1, 100_000]
+/** Largest magnitude accepted, Ω (an open circuit reads as very high but finite; beyond this the figure is not a measurement). */
+export const TABLE_MAX_MAGNITUDE_OHM = 1_000_000
+/** Phase must lie within ±180° (a passive load stays within ±90°; wrapped exports use the full circle). */
+export const TABLE_MAX_PHASE_DEG = 180
 const COMMENT_PREFIXES = ['#', ';', '*', '!']
 const NUMBER_RE = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/
 
@@ -33,11 +46,19 @@ function parseNumber(s: string, decimalComma: boolean): number | null {
  * Parses an impedance table: one point a line, frequency (Hz), magnitude (Ω), optional phase (°).
  * Separators: comma, tab, whitespace, or semicolon (then decimal commas are allowed). One optional
  * header line before the data; comment lines start with #, ;, * or !.
+ * A physically impossible table is refused, never guessed at: frequencies outside
+ * TABLE_FREQ_RANGE_HZ, magnitudes over TABLE_MAX_MAGNITUDE_OHM, phases beyond ±180°, repeated or
+ * falling frequencies, more than MAX_TABLE_POINTS points or MAX_TABLE_LINES lines.
  * @throws AnalysisInputError naming the line for unparsable lines, non-increasing frequencies,
- *   negative magnitudes; `table_too_few_points` below MIN_TABLE_POINTS.
+ *   negative magnitudes and values out of range; `table_too_few_points` below MIN_TABLE_POINTS,
+ *   `table_too_many_points` above the limits.
  */
 export function parseImpedanceTable(text: string): ImpedanceTable {
-  const rawLines = text.replace(/^\uFEFF/, '').split(/\r\n|\r|\n/)
+  // Split no further than needed to tell: one element more than the limit is the final line break's empty rest.
+  const rawLines = text.replace(/^\uFEFF/, '').split(/\r\n|\r|\n/, MAX_TABLE_LINES + 2)
+  if (rawLines.length > MAX_TABLE_LINES + 1 || (rawLines.length === MAX_TABLE_LINES + 1 && rawLines[MAX_TABLE_LINES]!.trim() !== '')) {
+    throw new AnalysisInputError('table_too_many_points', `The table has more than ${MAX_TABLE_LINES} lines; at most ${MAX_TABLE_POINTS} points are read.`)
+  }
   const freqHz: number[] = []
   const magOhm: number[] = []
   const phase: number[] = []
@@ -83,6 +104,19 @@ export function parseImpedanceTable(text: string): ImpedanceTable {
     }
     if (m! < 0) {
       throw new AnalysisInputError('table_negative_magnitude', `Line ${lineNo}: negative magnitude ${m} Ω.`, { line: lineNo })
+    }
+    const [fLo, fHi] = TABLE_FREQ_RANGE_HZ
+    if (f! < fLo || f! > fHi) {
+      throw new AnalysisInputError('table_out_of_range', `Line ${lineNo}: frequency ${f} Hz is outside ${fLo} Hz to ${fHi / 1000} kHz.`, { line: lineNo })
+    }
+    if (m! > TABLE_MAX_MAGNITUDE_OHM) {
+      throw new AnalysisInputError('table_out_of_range', `Line ${lineNo}: magnitude ${m} Ω is over ${TABLE_MAX_MAGNITUDE_OHM / 1e6} MΩ.`, { line: lineNo })
+    }
+    if (columns === 3 && Math.abs(p!) > TABLE_MAX_PHASE_DEG) {
+      throw new AnalysisInputError('table_out_of_range', `Line ${lineNo}: phase ${p}° is beyond ±${TABLE_MAX_PHASE_DEG}°.`, { line: lineNo })
+    }
+    if (freqHz.length === MAX_TABLE_POINTS) {
+      throw new AnalysisInputError('table_too_many_points', `Line ${lineNo}: the table has more than ${MAX_TABLE_POINTS} points.`, { line: lineNo })
     }
     freqHz.push(f!)
     magOhm.push(m!)

@@ -35,7 +35,7 @@ export {
   RUB_BUZZ_LIMIT_DB,
   RUB_BUZZ_MIN_ORDER,
 } from './analyze.ts'
-export { parseImpedanceTable, MIN_TABLE_POINTS, type ImpedanceTable } from './impedance-table.ts'
+export { parseImpedanceTable, MIN_TABLE_POINTS, MAX_TABLE_POINTS, MAX_TABLE_LINES, type ImpedanceTable } from './impedance-table.ts'
 export {
   checkRatedImpedance,
   classicalThreePoint,

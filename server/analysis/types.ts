@@ -64,6 +64,11 @@ export interface AnalysisFlags {
   lowSnrChannels: ChannelRole[]
   /** Rub-and-buzz level above its limit; null when not measured. */
   rubBuzz: boolean | null
+  /**
+   * The impedance covers the band where a driver resonates and shows no resonance peak there (a
+   * blocked cone, or no driver at all): a unit fault. Absent in results made before it existed.
+   */
+  noResonance?: boolean
 }
 
 export interface AnalysisTimings {

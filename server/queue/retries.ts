@@ -45,9 +45,15 @@ export function claimAttempt(db: Knex, recordingId: number, maxAttempts = MAX_AT
   return markInAnalysis(db, recordingId, maxAttempts)
 }
 
+/**
+ * What a recording that failed for good says to its reader. The cause (an internal error's text,
+ * perhaps a database statement) stays in the worker's log: the API never shows SQL or stack text.
+ */
+export const FAILED_FOR_GOOD_MESSAGE = 'The analysis failed on every try. The file is kept; an admin can find the cause in the worker log.'
+
 /** Ends a recording `failed` after its last try. */
-export function failForGood(db: Knex, recordingId: number, message: string): Promise<void> {
-  return markFinishedWithError(db, recordingId, 'failed', 'analysis_failed', message)
+export function failForGood(db: Knex, recordingId: number): Promise<void> {
+  return markFinishedWithError(db, recordingId, 'failed', 'analysis_failed', FAILED_FOR_GOOD_MESSAGE)
 }
 
 /** Marks failed the waiting recordings whose job is gone from the queue; returns how many. */

@@ -17,6 +17,8 @@ export interface StoredJudgement {
   verdict: Verdict
   checks: CheckView[]
   unmeasured: string[]
+  /** Checks the file should have measured but could not (each also a failing check without a value). */
+  undecided?: string[]
 }
 
 /** The mask that judged a new result, and what it found. */
@@ -47,7 +49,7 @@ export async function saveResult(trx: Knex.Transaction, r: NewResult, j: Verdict
       kind: a.kind,
       mask_id: j?.maskId ?? null,
       verdict: j?.verdict ?? null,
-      checks: j ? JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured }) : null,
+      checks: j ? JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured, undecided: j.undecided ?? [] }) : null,
       judged_at: j ? trx.fn.now() : null,
       re_ohm: p.reOhm,
       re20_ohm: p.re20Ohm,
@@ -173,5 +175,5 @@ export async function setFirstVerdict(db: Knex, resultId: number, maskId: number
   await db('results')
     .where({ id: resultId })
     .whereNull('verdict')
-    .update({ mask_id: maskId, verdict: j.verdict, checks: JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured }), judged_at: db.fn.now() })
+    .update({ mask_id: maskId, verdict: j.verdict, checks: JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured, undecided: j.undecided ?? [] }), judged_at: db.fn.now() })
 }

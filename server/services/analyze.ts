@@ -1,5 +1,5 @@
 import type { Knex } from 'knex'
-import { analyzeImpedanceTable, analyzeRecording, AnalysisInputError, type AnalysisResult } from '../analysis/index.ts'
+import { analyzeImpedanceTable, analyzeRecording, AnalysisInputError, parseImpedanceTable, type AnalysisResult } from '../analysis/index.ts'
 import { getActiveMask } from '../repos/masks.ts'
 import { getRecording, markFinishedWithError } from '../repos/recordings.ts'
 import { saveResult } from '../repos/results.ts'
@@ -8,7 +8,10 @@ import { getProductById } from '../repos/products.ts'
 import { getUnitById } from '../repos/units.ts'
 import type { RecordingStorage } from '../storage/recordings.ts'
 import { claimAttempt, MAX_ATTEMPTS } from '../queue/retries.ts'
-import { judge } from '../verdict/judge.ts'
+import { judge, onlyUndecided } from '../verdict/judge.ts'
+import { requiredTableBand, tableCoverageProblem } from '../verdict/table-coverage.ts'
+import { CHECK_LABELS, type MaskLimits } from '../../shared/utils/mask.ts'
+import type { ProductView } from '../../shared/types/api.ts'
 
 export type ProcessOutcome = 'done' | 'rejected' | 'skipped'
 
@@ -45,10 +48,30 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
   // Decide, then store, in one transaction holding the product row's share lock: a mask release
   // (which locks that row for update) either committed before and judges here, or waits for this
   // commit and then finds the result unjudged. A result can never miss the mask either way.
-  await db.transaction(async (trx) => {
+  // A recording that could not measure what its kind of file should is refused (measure again),
+  // never stored as a pass; one that shows a unit fault or a failed check is stored as a fail.
+  return db.transaction(async (trx) => {
     const mask = await getActiveMask(trx, product.id, { lockProduct: true })
-    const verdict = mask ? { maskId: mask.id, ...judge(analysis, mask.limits, product.ratedImpedanceOhm) } : null
+    const refusal = rec.kind === 'impedance_table' ? tableRefusal(bytes.toString('utf8'), product, mask?.limits ?? null) : null
+    const verdict = refusal ? null : mask ? { maskId: mask.id, ...judge(analysis, mask.limits, product.ratedImpedanceOhm) } : null
+    if (refusal || (verdict && onlyUndecided(verdict))) {
+      const err = refusal ?? notMeasured(verdict!.undecided)
+      await markFinishedWithError(trx, recordingId, 'rejected', err.code, err.message)
+      return 'rejected'
+    }
     await saveResult(trx, { recordingId, unitId: Number(rec.unit_id), analysis }, verdict)
+    return 'done'
   })
-  return 'done'
+}
+
+/** The refusal of a table that does not cover the product's band (see requiredTableBand), or null. */
+export function tableRefusal(text: string, product: Pick<ProductView, 'sensitivityBandHz'>, limits: MaskLimits | null): AnalysisInputError | null {
+  const { freqHz } = parseImpedanceTable(text)
+  const problem = tableCoverageProblem([freqHz[0]!, freqHz[freqHz.length - 1]!], requiredTableBand(product, limits))
+  return problem ? new AnalysisInputError('table_band_too_narrow', problem) : null
+}
+
+function notMeasured(checks: string[]): AnalysisInputError {
+  const names = checks.map((c) => CHECK_LABELS[c]?.label ?? c).join(', ')
+  return new AnalysisInputError('not_measured', `This recording could not measure ${names}, and no measured check failed: measure the unit again.`)
 }

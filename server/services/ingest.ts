@@ -12,6 +12,9 @@ import { getUnitBySerial, resolveUnit } from '../repos/units.ts'
 import { newStorageKey, type RecordingStorage } from '../storage/recordings.ts'
 import type { UploadFields } from '../../shared/utils/recordings.ts'
 import { isUniqueViolation } from '../repos/pg-errors.ts'
+import { getActiveMask } from '../repos/masks.ts'
+import { getProductById } from '../repos/products.ts'
+import { tableRefusal } from './analyze.ts'
 
 export const UPLOAD_REFUSAL_CODES = ['unsupported_file', 'station_required', 'unknown_return', 'return_closed', 'wrong_unit', 'already_uploaded', 'same_recording_other_unit'] as const satisfies readonly ErrorCode[]
 
@@ -63,6 +66,12 @@ export function validateUpload(bytes: Buffer, kind: 'sweep' | 'impedance_table',
   }
 }
 
+/** Refuses, before anything is stored, an impedance table that does not cover the product's band under its released mask. */
+async function refuseUncoveredTable(trx: Knex.Transaction, productId: number, bytes: Buffer): Promise<void> {
+  const product = (await getProductById(trx, productId))!
+  const refusal = tableRefusal(bytes.toString('utf8'), product, (await getActiveMask(trx, productId))?.limits ?? null)
+  if (refusal) throw refusal
+}
 
 /**
  * Accepts one upload: validates it, then in one transaction registers the unit when new, stores the
@@ -86,6 +95,7 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
         if (src.returnId !== undefined && !ret) throw new UploadRefused('unknown_return', `No return ${src.returnId}`)
         if (ret && ret.status !== 'open') throw new UploadRefused('return_closed', `Return ${ret.id} is closed: nothing can be added to it`)
         const unit = await resolveUnit(trx, serial, product, lot)
+        if (kind === 'impedance_table') await refuseUncoveredTable(trx, Number(unit.product_id), bytes)
         if (ret && Number(unit.id) !== ret.unitId) {
           throw new UploadRefused('wrong_unit', `Return ${ret.id} is for unit ${ret.serial}, not ${serial}`)
         }

@@ -10,14 +10,37 @@ export type Check = CheckView
 export interface Judgement {
   verdict: Verdict
   checks: Check[]
-  /** Checks the mask holds that this result's data cannot show (e.g. acoustic checks on an impedance table). */
+  /** Checks the mask holds that this kind of file cannot show (e.g. acoustic checks on an impedance table). */
   unmeasured: string[]
+  /**
+   * Checks this file should have measured but could not (a figure missing where its kind and its
+   * channels can give one). Never a pass: with no failed check the result is undecided.
+   */
+  undecided: string[]
 }
 
 export interface Judgeable {
-  parameters: Pick<AnalysisParameters, 'reOhm' | 're20Ohm' | 'fsHz' | 'qts' | 'sensitivityDb' | 'thdMaxPct' | 'rubBuzzDb' | 'zminOhm' | 'effectiveImpedanceOhm'>
-  flags: Pick<AnalysisFlags, 'polarity' | 'openCoil' | 'shortedCoil'>
+  kind: 'sweep' | 'impedance_table'
+  parameters: Pick<AnalysisParameters, 'reOhm' | 're20Ohm' | 'fsHz' | 'qts' | 'sensitivityDb' | 'thdMaxPct' | 'rubBuzzDb' | 'zminOhm' | 'effectiveImpedanceOhm'> &
+    Partial<Pick<AnalysisParameters, 'peakDbfs'>>
+  flags: Pick<AnalysisFlags, 'polarity' | 'openCoil' | 'shortedCoil' | 'noResonance'>
   curves: Pick<AnalysisCurves, 'freqHz' | 'splDb' | 'impedanceOhm'> & Partial<Pick<AnalysisCurves, 'thdPct'>>
+}
+
+/** Checks read from sound at the microphone. */
+const ACOUSTIC_CHECKS: ReadonlySet<string> = new Set(['polarity', 'sensitivityDb', 'thdMaxPct', 'rubBuzzDb', 'splDb'])
+
+/**
+ * Whether a file of this kind, with these channels, can give the check's figure: an impedance table
+ * gives no acoustic figure; a sweep gives acoustic figures with a microphone channel and electrical
+ * ones with a current (sense) channel. Channels are known from their peak levels (absent: all present).
+ */
+export function canMeasure(r: Pick<Judgeable, 'kind' | 'parameters'>, check: string): boolean {
+  const acoustic = ACOUSTIC_CHECKS.has(check)
+  if (r.kind === 'impedance_table') return !acoustic
+  const peaks = r.parameters.peakDbfs
+  if (!peaks) return true
+  return acoustic ? peaks.mic != null : peaks.sense != null && (check !== 'coil' || peaks.drive != null)
 }
 
 function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>): Check | null {
@@ -48,23 +71,35 @@ function round(x: number, digits = 4): number {
 }
 
 /**
- * Applies a mask to one result. Fixed checks first (coil continuity, polarity, the rated-impedance
- * rule of IEC 60268-5), then the scalar limits, then the curves. A check whose figure the result
- * could not measure is listed in `unmeasured` and does not decide the verdict.
+ * Applies a mask to one result. Fixed checks first (coil continuity, a resonance where a driver
+ * must have one, polarity, the rated-impedance rule of IEC 60268-5), then the scalar limits, then
+ * the curves. A result passes only when every check its kind of file can measure was measured and
+ * passed: a check whose figure is missing fails without a value and is listed in `undecided` (the
+ * analysis service refuses such a recording before it is stored unless a measured check failed); a
+ * check the file cannot show by its nature is listed in `unmeasured` and does not decide.
  */
 export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: number): Judgement {
   const checks: Check[] = []
   const unmeasured: string[] = []
+  const undecided: string[] = []
   const { parameters: p, flags } = r
+  // A figure this file should have given but did not: a failing check without a value, and undecided.
+  const missing = (name: string, low: number | null = null, high: number | null = null) => {
+    if (!canMeasure(r, name)) return void unmeasured.push(name)
+    undecided.push(name)
+    checks.push({ name, value: null, low, high, unit: CHECK_LABELS[name]?.unit ?? '', pass: false })
+  }
 
-  checks.push({ name: 'coil', value: p.effectiveImpedanceOhm, low: null, high: null, unit: 'Ω', pass: !flags.openCoil && !flags.shortedCoil })
+  if (canMeasure(r, 'coil')) checks.push({ name: 'coil', value: p.effectiveImpedanceOhm, low: null, high: null, unit: 'Ω', pass: !flags.openCoil && !flags.shortedCoil })
+  else unmeasured.push('coil')
+  if (flags.noResonance) checks.push({ name: 'resonance', value: null, low: null, high: null, unit: '', pass: false })
   if (limits.polarityNormal) {
-    if (flags.polarity === null) unmeasured.push('polarity')
+    if (flags.polarity === null) missing('polarity')
     else checks.push({ name: 'polarity', value: flags.polarity === 'normal' ? 1 : -1, low: 1, high: null, unit: '', pass: flags.polarity === 'normal' })
   }
   if (limits.ratedImpedanceRule) {
     const low = RATED_IMPEDANCE_MIN_FRACTION * ratedImpedanceOhm
-    if (p.zminOhm === null) unmeasured.push('ratedImpedance')
+    if (p.zminOhm === null) missing('ratedImpedance', round(low))
     else checks.push({ name: 'ratedImpedance', value: round(p.zminOhm), low: round(low), high: null, unit: 'Ω', pass: p.zminOhm >= low })
   }
   for (const name of SCALAR_LIMIT_NAMES) {
@@ -72,7 +107,7 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
     if (!lim) continue
     const value = figureValue(r, name, limits.thdBandHz)
     if (value === null || !Number.isFinite(value)) {
-      unmeasured.push(name)
+      missing(name, lim.low, lim.high)
       continue
     }
     const pass = (lim.low === null || value >= lim.low) && (lim.high === null || value <= lim.high)
@@ -83,9 +118,14 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
     if (!lim) continue
     const c = curveCheck(name, r, lim)
     if (c) checks.push(c)
-    else unmeasured.push(name)
+    else missing(name)
   }
-  return { verdict: checks.every((c) => c.pass) ? 'pass' : 'fail', checks, unmeasured }
+  return { verdict: checks.every((c) => c.pass) ? 'pass' : 'fail', checks, unmeasured, undecided }
+}
+
+/** Whether a judgement failed only because figures were missing: no measured check failed, the file could not decide. */
+export function onlyUndecided(j: Pick<Judgement, 'checks' | 'undecided'>): boolean {
+  return j.undecided.length > 0 && j.checks.every((c) => c.pass || j.undecided.includes(c.name))
 }
 
 /** The names of the checks a judgement failed, in the order the judge applied them. */

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { decimalNumber, plainText } from './input'
 
 /** Names of the scalar figures a mask can limit (result parameter names). */
 export const SCALAR_LIMIT_NAMES = ['re20Ohm', 'fsHz', 'qts', 'sensitivityDb', 'thdMaxPct', 'rubBuzzDb'] as const
@@ -71,6 +72,7 @@ export function figureValue(r: FigureSource, name: ScalarLimitName, thdBandHz?: 
 /** Labels and units of the checks, as the bench shows them. */
 export const CHECK_LABELS: Record<string, { label: string; unit: string; plain: string }> = {
   coil: { label: 'Voice coil', unit: '', plain: 'Open or shorted voice coil' },
+  resonance: { label: 'Resonance', unit: '', plain: 'No resonance: blocked cone, or no driver connected' },
   polarity: { label: 'Polarity', unit: '', plain: 'Inverted polarity: leads swapped?' },
   ratedImpedance: { label: 'Impedance minimum', unit: 'Ω', plain: 'Impedance minimum below 80 % of rated' },
   re20Ohm: { label: 'Re (20 °C)', unit: 'Ω', plain: 'DC resistance out of limits' },
@@ -120,7 +122,7 @@ export const maskCreateSchema = z
     floorDb: z.number().min(0).max(20).optional(),
     fromHz: z.number().positive().optional(),
     toHz: z.number().positive().optional(),
-    name: z.string().trim().max(80).optional(),
+    name: plainText().trim().max(80).optional(),
     /** The response band's sides may differ: their own k and floor (dB). */
     upper: bandSideSchema.optional(),
     lower: bandSideSchema.optional(),
@@ -137,13 +139,13 @@ export type MaskCreateInput = z.infer<typeof maskCreateSchema>
 
 /** PATCH /api/masks/:id: edits a draft (a released mask answers 409). */
 export const maskPatchSchema = z
-  .object({ name: z.string().trim().max(80).optional(), limits: maskLimitsSchema.optional() })
+  .object({ name: plainText().trim().max(80).optional(), limits: maskLimitsSchema.optional() })
   .refine((p) => p.name !== undefined || p.limits !== undefined, { message: 'nothing to change' })
 
 /** POST /api/masks/:id/release and /retire: why (required for release, written to the audit log). */
-export const maskReleaseSchema = z.object({ comment: z.string().trim().min(3, 'say why (at least 3 characters)').max(1000) })
-export const maskRetireSchema = z.object({ comment: z.string().trim().max(1000).optional() })
+export const maskReleaseSchema = z.object({ comment: plainText().trim().min(3, 'say why (at least 3 characters)').max(1000) })
+export const maskRetireSchema = z.object({ comment: plainText().trim().max(1000).optional() })
 
 export const maskListQuerySchema = z.object({ product: productCode.optional() })
-export const previewQuerySchema = z.object({ last: z.coerce.number().int().min(1).max(20000).default(2000) })
-export const candidatesQuerySchema = z.object({ product: productCode, limit: z.coerce.number().int().min(1).max(2000).default(200) })
+export const previewQuerySchema = z.object({ last: decimalNumber(z.number().int().min(1).max(20000).default(2000)) })
+export const candidatesQuerySchema = z.object({ product: productCode, limit: decimalNumber(z.number().int().min(1).max(2000).default(200)) })

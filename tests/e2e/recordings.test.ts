@@ -103,6 +103,31 @@ describe('upload, analysis and verdict', () => {
     expect(rec.unmeasured).toEqual(expect.arrayContaining(['polarity', 'rubBuzzDb']))
   })
 
+  // A file from which nothing can be measured never passes: a unit fault it shows is a fail, a
+  // figure it could not give refuses the recording (measure again), and no result is stored for it.
+  const flatTable = (ohm: number) => Array.from({ length: 200 }, (_, i) => `${(10 * Math.pow(2000, i / 199)).toFixed(3)},${ohm}`).join('\n')
+  it.each([
+    ['a flat 8 Ω table', 8, 'resonance'],
+    ['a dead short (0.01 Ω)', 0.01, 'coil'],
+    ['an open circuit (1 MΩ)', 1e6, 'coil'],
+  ])('fails %s on its %s check, never passes it', async (_label, ohm, check) => {
+    const up = await postRecording(host, tech, { serial: unique('FLAT'), product: product.code }, { bytes: flatTable(ohm), name: 'z.csv' })
+    expect(up.status).toBe(202)
+    const rec = await waitFinished(host, tech, up.body.id)
+    expect(rec).toMatchObject({ status: 'done', verdict: 'fail' })
+    expect(rec.failedChecks[0]).toBe(check)
+  })
+
+  it('refuses a sweep whose microphone heard nothing from a unit that draws current: not_measured, no result', async () => {
+    const serial = unique('MUTE')
+    const up = await postRecording(host, tech, { serial, product: product.code, station: station.id }, { bytes: generateRecording({ seed: 131, memorylessPressure: () => 0, noiseDbfs: -70 }), name: 'mute.wav' })
+    expect(up.status).toBe(202)
+    const rec = await waitFinished(host, tech, up.body.id)
+    expect(rec).toMatchObject({ status: 'rejected', verdict: null, error: { code: 'not_measured' } })
+    expect(rec.error!.message).toMatch(/Polarity.*measure the unit again/)
+    expect(await testDb()('results').where({ recording_id: up.body.id })).toHaveLength(0)
+  })
+
   it('keeps a result unjudged (verdict null, status done) while the product has no released mask', async () => {
     const bare = await makeProduct()
     const up = await postRecording(host, tech, { serial: unique('NOMASK'), product: bare.code, station: station.id }, { bytes: wav(102), name: 'u.wav' })
@@ -171,6 +196,12 @@ describe('bad input gets its code and leaves nothing behind', () => {
     ['a clipped channel', () => ({ fields: { serial: unique('E'), product: product.code, station: station.id }, file: { bytes: wav(108, 'clipped'), name: 'c.wav' } }), 422, 'clipped'],
     ['a silent drive channel (station fault)', () => ({ fields: { serial: unique('E'), product: product.code, station: station.id }, file: { bytes: wav(109, 'silent_drive'), name: 's.wav' } }), 422, 'silent_drive'],
     ['an impedance table with too few points', () => ({ fields: { serial: unique('E'), product: product.code }, file: { bytes: generateImpedanceTable({ points: 10 }), name: 'z.csv' } }), 422, 'table_too_few_points'],
+    ['an impedance table with a magnitude of 1e39 Ω', () => ({ fields: { serial: unique('E'), product: product.code }, file: { bytes: generateImpedanceTable().replace(/\n(\d+\.\d+),[\d.]+/, '\n$1,1e39'), name: 'z.csv' } }), 422, 'table_out_of_range'],
+    ['an impedance table with frequencies up to 1 GHz', () => ({ fields: { serial: unique('E'), product: product.code }, file: { bytes: generateImpedanceTable({ fMaxHz: 1e9 }), name: 'z.csv' } }), 422, 'table_out_of_range'],
+    ['an impedance table of 100 000 lines', () => ({ fields: { serial: unique('E'), product: product.code }, file: { bytes: generateImpedanceTable({ points: 100_000, fMaxHz: 20_000 }), name: 'z.csv' } }), 422, 'table_too_many_points'],
+    // The mask allows Fs from 20 Hz: a table must start at 14.1 Hz or lower and reach the product's 3 kHz band top.
+    ['an impedance table that starts at 200 Hz', () => ({ fields: { serial: unique('E'), product: product.code }, file: { bytes: generateImpedanceTable({ fMinHz: 200 }), name: 'z.csv' } }), 422, 'table_band_too_narrow'],
+    ['an impedance table that ends at 2 kHz', () => ({ fields: { serial: unique('E'), product: product.code }, file: { bytes: generateImpedanceTable({ fMaxHz: 2000 }), name: 'z.csv' } }), 422, 'table_band_too_narrow'],
     ['a missing serial', () => ({ fields: { product: product.code, station: station.id }, file: { bytes: wav(110), name: 'a.wav' } }), 400, 'invalid_input'],
     ['a malformed serial', () => ({ fields: { serial: 'no spaces allowed', product: product.code, station: station.id }, file: { bytes: wav(110), name: 'a.wav' } }), 400, 'invalid_input'],
     ['a missing file', () => ({ fields: { serial: unique('E'), product: product.code, station: station.id }, file: null }), 400, 'missing_file'],

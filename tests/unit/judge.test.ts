@@ -1,10 +1,11 @@
 import { describe, expect, it } from 'vitest'
-import { failedCheckNames, judge, type Judgeable } from '../../server/verdict/judge'
+import { canMeasure, failedCheckNames, judge, onlyUndecided, type Judgeable } from '../../server/verdict/judge'
 import { maskOpinion } from '../../server/services/current-mask'
 import { figureValue, maskLimitsSchema } from '../../shared/utils/mask'
 
 // A hand-made result: every figure written out, a THD curve with its peak at 200 Hz.
 const result: Judgeable = {
+  kind: 'sweep',
   parameters: { reOhm: 6.1, re20Ohm: null, fsHz: 42, qts: 0.35, sensitivityDb: 88, thdMaxPct: 2.5, rubBuzzDb: -60, zminOhm: 6.6, effectiveImpedanceOhm: 9.5 },
   flags: { polarity: 'normal', openCoil: false, shortedCoil: false },
   curves: { freqHz: [100, 200, 500, 1000, 2000], splDb: [80, 85, 88, 88, 87], impedanceOhm: null, thdPct: [1.0, 2.5, 0.6, 0.4, 0.5] },
@@ -53,10 +54,56 @@ describe('judge', () => {
   })
 
   it('lists as unmeasured the checks an impedance table cannot show', () => {
-    const table: Judgeable = { ...result, parameters: { ...result.parameters, sensitivityDb: null, thdMaxPct: null, rubBuzzDb: null }, flags: { polarity: null, openCoil: false, shortedCoil: false }, curves: { freqHz: result.curves.freqHz, splDb: null, impedanceOhm: null } }
+    const table: Judgeable = { ...result, kind: 'impedance_table', parameters: { ...result.parameters, sensitivityDb: null, thdMaxPct: null, rubBuzzDb: null }, flags: { polarity: null, openCoil: false, shortedCoil: false }, curves: { freqHz: result.curves.freqHz, splDb: null, impedanceOhm: null } }
     const j = judge(table, limits, 8)
     expect(j.unmeasured.sort()).toEqual(['polarity', 'splDb', 'thdMaxPct'])
+    expect(j.undecided).toEqual([])
     expect(j.verdict).toBe('pass')
+  })
+})
+
+// A check that could not be measured is never a pass (our rule: a result passes only when every
+// check its kind of file can measure was measured and passed).
+describe('checks a file could not measure', () => {
+  const limits = maskLimitsSchema.parse({ scalars: { re20Ohm: { low: 5.5, high: 6.5 }, fsHz: { low: 38, high: 46 }, qts: { low: 0.3, high: 0.4 } } })
+  const table = (over: Partial<Judgeable['parameters']>, flags: Partial<Judgeable['flags']> = {}): Judgeable => ({
+    kind: 'impedance_table',
+    parameters: { ...result.parameters, sensitivityDb: null, thdMaxPct: null, rubBuzzDb: null, effectiveImpedanceOhm: null, ...over },
+    flags: { polarity: null, openCoil: false, shortedCoil: false, ...flags },
+    curves: { freqHz: result.curves.freqHz, splDb: null, impedanceOhm: null },
+  })
+
+  it('fails a table that measured nothing, each missing figure a failing check without a value', () => {
+    const j = judge(table({ reOhm: null, fsHz: null, qts: null, zminOhm: null }), limits, 8)
+    expect(j.verdict).toBe('fail')
+    expect(j.undecided).toEqual(['ratedImpedance', 're20Ohm', 'fsHz', 'qts'])
+    expect(j.checks.filter((c) => !c.pass)).toEqual(j.undecided.map((name) => expect.objectContaining({ name, value: null, pass: false })))
+    expect(onlyUndecided(j)).toBe(true)
+  })
+
+  it('fails a table without a resonance on its own check, a unit fault rather than a measurement to repeat', () => {
+    const j = judge(table({ fsHz: null, qts: null, zminOhm: null }, { noResonance: true }), limits, 8)
+    expect(failedCheckNames(j)[0]).toBe('resonance')
+    expect(onlyUndecided(j)).toBe(false)
+  })
+
+  it('fails a shorted or open table on the coil check', () => {
+    expect(failedCheckNames(judge(table({ reOhm: 0.01, fsHz: null, qts: null, zminOhm: null }, { shortedCoil: true }), limits, 8))[0]).toBe('coil')
+    expect(failedCheckNames(judge(table({ reOhm: null, fsHz: null, qts: null, zminOhm: null }, { openCoil: true }), limits, 8))[0]).toBe('coil')
+  })
+
+  it('fails a sweep that could not read Fs, but not for what a channel it lacks cannot show', () => {
+    const j = judge({ ...result, parameters: { ...result.parameters, fsHz: null } }, limits, 8)
+    expect(j.undecided).toEqual(['fsHz'])
+    expect(j.verdict).toBe('fail')
+    // A station with a microphone and no current channel: the electrical checks are not its to give.
+    const micOnly: Judgeable = { ...result, parameters: { ...result.parameters, reOhm: null, fsHz: null, qts: null, zminOhm: null, peakDbfs: { mic: -12, drive: null, sense: null } } }
+    expect(canMeasure(micOnly, 'fsHz')).toBe(false)
+    expect(canMeasure(micOnly, 'polarity')).toBe(true)
+    const m = judge(micOnly, limits, 8)
+    expect(m.undecided).toEqual([])
+    expect(m.unmeasured).toEqual(['coil', 'ratedImpedance', 're20Ohm', 'fsHz', 'qts'])
+    expect(m.verdict).toBe('pass')
   })
 })
 

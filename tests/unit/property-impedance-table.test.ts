@@ -7,7 +7,7 @@
  */
 import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
-import { ANALYSIS_ERROR_CODES, AnalysisInputError, MIN_TABLE_POINTS, analyzeImpedanceTable, parseImpedanceTable } from '../../server/analysis/index'
+import { ANALYSIS_ERROR_CODES, AnalysisInputError, MAX_TABLE_LINES, MAX_TABLE_POINTS, MIN_TABLE_POINTS, analyzeImpedanceTable, parseImpedanceTable } from '../../server/analysis/index'
 
 const RUNS = 10_000
 /** Whole-table analyses (the fit) are slower: fewer runs, the same rule. */
@@ -128,10 +128,42 @@ describe('impedance-table parser: every input is parsed or refused with a typed 
     expect(analysed).toBeGreaterThan(0)
   }, 60_000)
 
-  it('reads a large table (50 000 points) without trouble', () => {
-    const lines = Array.from({ length: 50_000 }, (_, i) => `${(10 + i * 0.4).toFixed(1)},${(6 + (i % 7) * 0.01).toFixed(2)}`)
-    const t = parseImpedanceTable(lines.join('\n'))
-    expect(t.freqHz).toHaveLength(50_000)
-    expect(t.freqHz[49_999]).toBeCloseTo(10 + 49_999 * 0.4, 6)
+  it('reads a table up to MAX_TABLE_POINTS points, and refuses one point more rather than guess', () => {
+    const table = (n: number) => Array.from({ length: n }, (_, i) => `${(10 + i * 1.5).toFixed(1)},${(6 + (i % 7) * 0.01).toFixed(2)}`).join('\n')
+    const t = parseImpedanceTable(table(MAX_TABLE_POINTS))
+    expect(t.freqHz).toHaveLength(MAX_TABLE_POINTS)
+    expect(t.freqHz[MAX_TABLE_POINTS - 1]).toBeCloseTo(10 + (MAX_TABLE_POINTS - 1) * 1.5, 6)
+    expect(refusalCode(table(MAX_TABLE_POINTS + 1))).toBe('table_too_many_points')
+    // 100 000 lines, most of them comments: refused by its length, whatever the lines hold.
+    expect(refusalCode(table(50) + '\n' + '# more\n'.repeat(100_000))).toBe('table_too_many_points')
+    // A final line break after the last allowed line is not one line too many.
+    expect(() => parseImpedanceTable('# c\n'.repeat(MAX_TABLE_LINES - 50) + table(50) + '\n')).not.toThrow()
+  })
+
+  // Physically impossible tables are refused at upload, naming the line (our limits: see the parser).
+  it.each([
+    ['a magnitude of 1e39 Ω', (i: number) => `${20 + i},${i === 5 ? '1e39' : '7.5'}`, 6],
+    ['a frequency of 1 GHz', (i: number) => `${i === 29 ? 1e9 : 20 + i},7.5`, 30],
+    ['a frequency below 1 Hz', (i: number) => `${0.5 + i},7.5`, 1],
+    ['a phase of 400°', (i: number) => `${20 + i},7.5,${i === 3 ? 400 : 10}`, 4],
+  ])('refuses %s with table_out_of_range', (_, line, lineNo) => {
+    const text = Array.from({ length: 30 }, (_, i) => line(i)).join('\n')
+    expect(refusalCode(text)).toBe('table_out_of_range')
+    expect(() => parseImpedanceTable(text)).toThrow(new RegExp(`^Line ${lineNo}:`))
+  })
+
+  it('refuses repeated and falling frequencies', () => {
+    const rows = Array.from({ length: 30 }, (_, i) => [20 + i, 7.5])
+    rows[10]![0] = rows[9]![0]!
+    expect(refusalCode(rows.map((r) => r.join(',')).join('\n'))).toBe('table_not_increasing')
   })
 })
+
+function refusalCode(text: string): string | undefined {
+  try {
+    parseImpedanceTable(text)
+    return undefined
+  } catch (err) {
+    return err instanceof AnalysisInputError ? err.code : 'other'
+  }
+}

@@ -189,6 +189,7 @@ describe('proposeLimits: response band', () => {
 describe('proposed limits judged by judge()', () => {
   const limits = proposeLimits(golden)
   const asJudgeable = (g: GoldenResult, splShift = 0, fsHz = 44): Judgeable => ({
+    kind: 'sweep',
     parameters: {
       reOhm: 5.9, re20Ohm: 5.9, fsHz, qts: null, sensitivityDb: 88, thdMaxPct: 0.4, rubBuzzDb: -61,
       zminOhm: 7.5, effectiveImpedanceOhm: 8,
