@@ -107,10 +107,10 @@ describe('upload, analysis and verdict', () => {
   // figure it could not give refuses the recording (measure again), and no result is stored for it.
   const flatTable = (ohm: number) => Array.from({ length: 200 }, (_, i) => `${(10 * Math.pow(2000, i / 199)).toFixed(3)},${ohm}`).join('\n')
   it.each([
-    ['a flat 8 Ω table', 8, 'resonance'],
-    ['a dead short (0.01 Ω)', 0.01, 'coil'],
-    ['an open circuit (1 MΩ)', 1e6, 'coil'],
-  ])('fails %s on its %s check, never passes it', async (_label, ohm, check) => {
+    ['a flat 8 Ω table', 'resonance', 8],
+    ['a dead short (0.01 Ω)', 'coil', 0.01],
+    ['an open circuit (1 MΩ)', 'coil', 1e6],
+  ])('fails %s on its %s check, never passes it', async (_label, check, ohm) => {
     const up = await postRecording(host, tech, { serial: unique('FLAT'), product: product.code }, { bytes: flatTable(ohm), name: 'z.csv' })
     expect(up.status).toBe(202)
     const rec = await waitFinished(host, tech, up.body.id)
