@@ -57,6 +57,9 @@ export function formatFigure(v: unknown, digits = 3): string {
 
 /** The measured side of a check as the table shows it (polarity and curve checks read differently). */
 export function checkValueText(c: CheckView): string {
+  if (c.name === 'resonance') return 'none found'
+  // A figure the file should have given but did not: the check fails without a value.
+  if (c.value === null && !c.pass && c.name !== 'coil') return 'not measured'
   if (c.name === 'polarity') return c.value === 1 ? 'normal' : c.value === -1 ? 'inverted' : '–'
   if (c.name === 'splDb' || c.name === 'impedanceOhm') {
     const over = c.value !== null && c.value > 0 ? `${formatFigure(c.value)} over` : 'inside'
