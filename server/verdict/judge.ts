@@ -76,16 +76,19 @@ function round(x: number, digits = 4): number {
  * the curves. A result passes only when every check its kind of file can measure was measured and
  * passed: a check whose figure is missing fails without a value and is listed in `undecided` (the
  * analysis service refuses such a recording before it is stored unless a measured check failed); a
- * check the file cannot show by its nature is listed in `unmeasured` and does not decide.
+ * check the file cannot show by its nature, or cannot show because of a unit fault it found (an
+ * open or shorted coil, no resonance), is listed in `unmeasured` and does not decide.
  */
 export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: number): Judgement {
   const checks: Check[] = []
   const unmeasured: string[] = []
   const undecided: string[] = []
   const { parameters: p, flags } = r
+  // A unit fault the file shows decides the verdict, and explains the figures it leaves missing.
+  const unitFault = flags.openCoil || flags.shortedCoil || flags.noResonance === true
   // A figure this file should have given but did not: a failing check without a value, and undecided.
   const missing = (name: string, low: number | null = null, high: number | null = null) => {
-    if (!canMeasure(r, name)) return void unmeasured.push(name)
+    if (unitFault || !canMeasure(r, name)) return void unmeasured.push(name)
     undecided.push(name)
     checks.push({ name, value: null, low, high, unit: CHECK_LABELS[name]?.unit ?? '', pass: false })
   }

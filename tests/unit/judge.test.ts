@@ -83,13 +83,16 @@ describe('checks a file could not measure', () => {
 
   it('fails a table without a resonance on its own check, a unit fault rather than a measurement to repeat', () => {
     const j = judge(table({ fsHz: null, qts: null, zminOhm: null }, { noResonance: true }), limits, 8)
-    expect(failedCheckNames(j)[0]).toBe('resonance')
+    expect(failedCheckNames(j)).toEqual(['resonance'])
     expect(onlyUndecided(j)).toBe(false)
   })
 
-  it('fails a shorted or open table on the coil check', () => {
-    expect(failedCheckNames(judge(table({ reOhm: 0.01, fsHz: null, qts: null, zminOhm: null }, { shortedCoil: true }), limits, 8))[0]).toBe('coil')
-    expect(failedCheckNames(judge(table({ reOhm: null, fsHz: null, qts: null, zminOhm: null }, { openCoil: true }), limits, 8))[0]).toBe('coil')
+  it('fails a shorted or open table on the coil check alone: the fault explains the missing figures', () => {
+    const shorted = judge(table({ reOhm: null, fsHz: null, qts: null, zminOhm: null }, { shortedCoil: true }), limits, 8)
+    expect(failedCheckNames(shorted)).toEqual(['coil'])
+    expect(shorted.undecided).toEqual([])
+    expect(shorted.unmeasured).toEqual(expect.arrayContaining(['ratedImpedance', 'fsHz', 'qts']))
+    expect(failedCheckNames(judge(table({ reOhm: null, fsHz: null, qts: null, zminOhm: null }, { openCoil: true }), limits, 8))).toEqual(['coil'])
   })
 
   it('fails a sweep that could not read Fs, but not for what a channel it lacks cannot show', () => {
