@@ -2,6 +2,7 @@ import { randomUUID } from 'node:crypto'
 import { join } from 'node:path'
 import { loadConfig } from '../utils/config.ts'
 import { DirectoryStorage, type RecordingStorage } from './recordings.ts'
+import { RETURN_ATTACHMENT_EXTENSIONS } from '../../shared/utils/returns.ts'
 
 /**
  * Where return attachments (photos, documents) live: the same directory store as recordings, in
@@ -11,8 +12,6 @@ import { DirectoryStorage, type RecordingStorage } from './recordings.ts'
 export type AttachmentStorage = RecordingStorage
 
 export type AttachmentType = 'image/png' | 'image/jpeg' | 'application/pdf'
-
-const EXT: Record<AttachmentType, string> = { 'image/png': 'png', 'image/jpeg': 'jpg', 'application/pdf': 'pdf' }
 
 /** PNG: the 8-byte signature, then the IHDR chunk (length 13) as the first chunk (PNG spec, ISO/IEC 15948 §5.2, §11.2.2). */
 const PNG_SIGNATURE = Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a])
@@ -34,7 +33,7 @@ export function sniffAttachmentType(head: Buffer): AttachmentType | null {
 export function newAttachmentKey(sha256: string, type: AttachmentType, now = new Date()): string {
   const y = now.getUTCFullYear()
   const m = String(now.getUTCMonth() + 1).padStart(2, '0')
-  return `${y}/${m}/${randomUUID()}-${sha256.slice(0, 12)}.${EXT[type]}`
+  return `${y}/${m}/${randomUUID()}-${sha256.slice(0, 12)}.${RETURN_ATTACHMENT_EXTENSIONS[type][0]}`
 }
 
 /** Largest attachment, bytes (CONETRAIL_MAX_ATTACHMENT_MB, default 10 MB: a phone photo is 2–6 MB). */

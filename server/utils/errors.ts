@@ -4,6 +4,7 @@ import { setResponseHeader, type H3Error, type H3Event } from 'h3'
 import { ZodError } from 'zod'
 import { DomainError } from '../../shared/utils/domain-error'
 import { ERROR_CODES, codeForStatus, isErrorCode, type ErrorCode } from '../../shared/utils/error-codes'
+import { CONTROL_CHARACTER_MESSAGE } from '../../shared/utils/input'
 import { isDatabaseUnavailable } from './db'
 
 /** zod's own wording "Invalid input: expected number, received NaN" (used where a schema set none). */
@@ -20,8 +21,9 @@ export function issueText(path: string, message: string): string {
   const name = parts.filter((p) => !/^\d+$/.test(p)).join(' ')
   const index = parts.find((p) => /^\d+$/.test(p))
   const generic = /^(Invalid|Too (small|big)|Unrecognized)/.test(message)
-  if (!name || !generic) return message
+  if (!name || (!generic && message !== CONTROL_CHARACTER_MESSAGE)) return message
   const field = index === undefined ? name : `${name}, item ${Number(index) + 1}`
+  if (message === CONTROL_CHARACTER_MESSAGE) return `${field} ${message}`
   const type = ZOD_TYPE.exec(message)
   if (type) return type[2] === 'undefined' ? `${field} is required` : `${field} must be ${KIND[type[1]!] ?? type[1]}`
   return `${field}: ${message}`
@@ -77,17 +79,47 @@ function domainErrorOf(error: unknown): DomainError | undefined {
 
 /** A path segment this long is a token or a link's secret, never a name a person typed (serials are shorter by habit). */
 const OPAQUE_SEGMENT_LENGTH = 24
+/** What a route name, an id, a serial or a lot code looks like in a path; anything else is not logged. */
+const PLAIN_SEGMENT = new RegExp(`^[A-Za-z0-9._:~-]{0,${OPAQUE_SEGMENT_LENGTH - 1}}$`)
 
 /**
- * A request path fit for the log: the query is dropped and any long opaque segment (invitation
- * links, tokens) is cut, so a secret in a URL never reaches the log.
+ * A request path fit for the log: the query and fragment are dropped and any segment that is not
+ * short plain text is cut (a long opaque one is an invitation link's or a token's secret; an encoded
+ * `?`, `;` or `=` can smuggle a query into the path), so a secret in a URL never reaches the log.
  */
 export function loggablePath(path: string): string {
   return path
-    .split('?')[0]!
+    .split(/[?#]/)[0]!
     .split('/')
-    .map((seg) => (seg.length >= OPAQUE_SEGMENT_LENGTH ? '…' : seg))
+    .map((seg) => (PLAIN_SEGMENT.test(seg) ? seg : '…'))
     .join('/')
+}
+
+/** A run of characters that is a token, a key or a hash (base64, base64url, hex) and never words. */
+const OPAQUE_RUN = new RegExp(`[A-Za-z0-9_+=-]{${OPAQUE_SEGMENT_LENGTH},}`, 'g')
+/** The query of any URL quoted in a message (a fetch error names the URL it asked). */
+const QUERY_IN_TEXT = /\?[^\s"'`]+/g
+
+function scrubbed(text: string): string {
+  return text.replace(QUERY_IN_TEXT, '?…').replace(OPAQUE_RUN, '…')
+}
+
+/**
+ * An unexpected error as one log entry without secrets: its name, code and message (and a database
+ * error's detail) with queries and token-like runs cut, then its stack frames, which name code and
+ * never data, and the same for what caused it. The database layer is told not to put the values
+ * of a failed query into its message (knexfile.ts, `compileSqlOnError: false`); this is the net
+ * behind it.
+ */
+export function loggableError(err: unknown, depth = 0): string {
+  if (!(err instanceof Error)) return scrubbed(String(err))
+  const e = err as Error & { code?: unknown; detail?: unknown }
+  const code = typeof e.code === 'string' || typeof e.code === 'number' ? ` [${e.code}]` : ''
+  const lines = [`${e.name}${code}: ${scrubbed(e.message)}`]
+  if (typeof e.detail === 'string') lines.push(`  detail: ${scrubbed(e.detail)}`)
+  lines.push(...(e.stack ?? '').split('\n').filter((l) => /^\s+at /.test(l)))
+  if (e.cause !== undefined && depth < 3) lines.push(`  caused by ${loggableError(e.cause, depth + 1)}`)
+  return lines.join('\n')
 }
 
 /** What an error answer carries, decided once for every route (the hook in server/plugins/00.errors.ts applies it). */
@@ -139,14 +171,20 @@ export function errorAnswer(error: H3Error): ErrorAnswer {
  * query or tokens; it is marked handled so that Nitro does not log the raw URL itself.
  */
 export function shapeErrorAnswer(error: H3Error, event: H3Event): void {
-  const answer = errorAnswer(error)
-  if (answer.requestId) {
-    console.error(`[request error] request ${answer.requestId} ${event.method} ${loggablePath(event.path)}:`, error.cause ?? error)
+  try {
+    const answer = errorAnswer(error)
+    if (answer.requestId) {
+      console.error(`[request error] request ${answer.requestId} ${event.method} ${loggablePath(event.path)}: ${loggableError(error.cause ?? error)}`)
+    }
+    error.statusCode = answer.statusCode
+    error.statusMessage = STATUS_CODES[answer.statusCode] ?? 'Error'
+    error.message = answer.message
+    error.data = answer.data
+    for (const [name, value] of Object.entries(answer.headers)) setResponseHeader(event, name, value)
+  } finally {
+    // Whatever happened above, Nitro's own handler must not log the error with the raw URL
+    // (query and tokens included): it does so for an unhandled or fatal error.
+    error.unhandled = false
+    error.fatal = false
   }
-  error.statusCode = answer.statusCode
-  error.statusMessage = STATUS_CODES[answer.statusCode] ?? 'Error'
-  error.message = answer.message
-  error.data = answer.data
-  error.unhandled = false
-  for (const [name, value] of Object.entries(answer.headers)) setResponseHeader(event, name, value)
 }

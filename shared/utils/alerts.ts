@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { decimalNumber, plainText } from './input'
 import { mailRecipientSchema } from './lot-report-mail'
 
 /** Defaults of a product's alert rules (the migration's column defaults). */
@@ -21,6 +22,6 @@ export type AlertingView = z.output<typeof alertingSchema>
 /** GET /api/alerts query. */
 export const alertsQuerySchema = z.object({
   open: z.enum(['true', 'false']).optional().transform((v) => (v === undefined ? undefined : v === 'true')),
-  product: z.string().trim().min(1).max(64).optional(),
-  limit: z.coerce.number().int().min(1).max(500).default(100),
+  product: plainText().trim().min(1).max(64).optional(),
+  limit: decimalNumber(z.number().int().min(1).max(500).default(100)),
 })

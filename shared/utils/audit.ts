@@ -1,15 +1,16 @@
 import { z } from 'zod'
+import { decimalNumber, plainText } from './input'
 
 export const auditQuerySchema = z.object({
   from: z.iso.datetime({ offset: true }).optional(),
   to: z.iso.datetime({ offset: true }).optional(),
   /** Part of the actor's e-mail or name. */
-  actor: z.string().trim().max(120).optional(),
+  actor: plainText().trim().max(120).optional(),
   action: z.string().trim().max(64).regex(/^[a-z_.]*$/, 'Letters, dots and underscores').optional(),
   /** Part of the subject (an e-mail, a station, a lot code, an id). */
-  subject: z.string().trim().max(200).optional(),
-  page: z.coerce.number().int().min(1).max(100_000).default(1),
-  pageSize: z.coerce.number().int().min(1).max(200).default(50),
+  subject: plainText().trim().max(200).optional(),
+  page: decimalNumber(z.number().int().min(1).max(100_000).default(1)),
+  pageSize: decimalNumber(z.number().int().min(1).max(200).default(50)),
 })
 export type AuditQuery = z.infer<typeof auditQuerySchema>
 

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { decimalNumber } from './input'
 
 /** A serial as printed on the label or read by a scanner: letters, digits and - _ . ; 3 to 64 characters. */
 export const serialSchema = z
@@ -16,5 +17,5 @@ export const codeSchema = z
   .max(40)
   .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, 'codes may hold letters, digits and - _ . only')
 
-export const idParamSchema = z.object({ id: z.coerce.number().int().positive() })
+export const idParamSchema = z.object({ id: decimalNumber(z.number().int().positive()) })
 export const serialParamSchema = z.object({ serial: serialSchema })

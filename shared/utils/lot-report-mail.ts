@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { plainText } from './input'
 
 export const MAX_RECIPIENTS = 20
 
@@ -8,7 +9,7 @@ export const mailRecipientSchema = z.string().trim().toLowerCase().max(254).pipe
 /** POST /api/lots/[code]/send and its form. */
 export const sendLotReportSchema = z.object({
   recipients: z.array(mailRecipientSchema).min(1, 'Name at least one recipient').max(MAX_RECIPIENTS, `At most ${MAX_RECIPIENTS} recipients`),
-  message: z.string().trim().max(4000).optional(),
+  message: plainText().trim().max(4000).optional(),
 })
 export type SendLotReportInput = z.infer<typeof sendLotReportSchema>
 

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { decimalNumber, plainText } from './input'
 import { ROLES } from './roles'
 
 /** How long an invitation link works. */
@@ -18,15 +19,14 @@ export const invitationTokenParamSchema = z.object({
 })
 
 export const acceptInvitationSchema = z.object({
-  displayName: z.string({ error: 'Enter your name' }).trim().min(2, 'Enter your name').max(80, 'At most 80 characters'),
-  password: z
-    .string({ error: 'Choose a password' })
+  displayName: plainText({ error: 'Enter your name' }).trim().min(2, 'Enter your name').max(80, 'At most 80 characters'),
+  password: plainText({ error: 'Choose a password' })
     .min(MIN_PASSWORD_LENGTH, `At least ${MIN_PASSWORD_LENGTH} characters`)
     .max(200, 'At most 200 characters'),
 })
 export type AcceptInvitationInput = z.infer<typeof acceptInvitationSchema>
 
-export const personIdParamSchema = z.object({ id: z.coerce.number().int().positive().max(Number.MAX_SAFE_INTEGER) })
+export const personIdParamSchema = z.object({ id: decimalNumber(z.number().int().positive().max(Number.MAX_SAFE_INTEGER)) })
 
 /** One change at a time to a person: a new role, or (de)activation. */
 export const personPatchSchema = z

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { plainText } from './input'
 import { codeSchema } from './ids'
 import { coilSchema, DEFAULT_RE_WARN_PCT } from './coil'
 import type { ProductView } from '../types/api'
@@ -14,8 +15,8 @@ const sensitivityBandSchema = z
   .tuple([z.number().positive('the band starts above 0 Hz'), z.number().max(40000, 'the band ends at 40 kHz at most')])
   .refine(([low, high]) => low < high, { message: 'the low end of the band must be below the high end' })
 
-const nameSchema = z.string({ error: 'name is required' }).trim().min(1, 'name is required').max(120, 'name may have at most 120 characters')
-const nominalSizeSchema = z.string().trim().max(20, 'nominal size may have at most 20 characters')
+const nameSchema = plainText({ error: 'name is required' }).trim().min(1, 'name is required').max(120, 'name may have at most 120 characters')
+const nominalSizeSchema = plainText().trim().max(20, 'nominal size may have at most 20 characters')
 /** How far the golden units' mean Re may stray from the coil's expected Re before a warning, %. */
 const reWarnPctSchema = z.number().min(1, 'the Re warning is at least 1 %').max(50, 'the Re warning is at most 50 %')
 

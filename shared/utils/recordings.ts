@@ -1,20 +1,16 @@
 import { z } from 'zod'
+import { decimalNumber, plainText } from './input'
 import { codeSchema, serialSchema } from './ids'
 
 const AMBIENT_RANGE = 'Room temperature (ambientC) must be between -20 and 60 °C'
 
 /**
  * Room temperature in °C as a form or a station sends it: a decimal point or a decimal comma
- * ("22.5", "22,5"); empty means not given. Anything else is refused in words, not as NaN.
+ * ("22.5", "22,5"); empty means not given. Anything else ("0x10", "1e3", "Infinity") is refused
+ * in words, not read as JavaScript would read it.
  */
-export const ambientCSchema = z.preprocess(
-  (v) => {
-    if (typeof v !== 'string') return v
-    const s = v.trim()
-    if (s === '') return undefined
-    return /^[+-]?\d+,\d+$/.test(s) ? s.replace(',', '.') : s
-  },
-  z.coerce
+export const ambientCSchema = decimalNumber(
+  z
     .number({ error: 'Room temperature (ambientC) must be a number of °C, such as 22.5' })
     .min(-20, AMBIENT_RANGE)
     .max(60, AMBIENT_RANGE)
@@ -26,9 +22,9 @@ export const uploadFieldsSchema = z.object({
   serial: serialSchema,
   product: codeSchema.optional(),
   lot: codeSchema.optional(),
-  station: z.coerce.number().int().positive().optional(),
+  station: decimalNumber(z.number().int().positive().optional()),
   ambientC: ambientCSchema,
-  note: z.string().trim().max(500).optional(),
+  note: plainText().trim().max(500).optional(),
 })
 export type UploadFields = z.infer<typeof uploadFieldsSchema>
 
@@ -36,8 +32,8 @@ export const RECORDING_STATUSES = ['queued', 'analysing', 'done', 'rejected', 'f
 export type RecordingStatus = (typeof RECORDING_STATUSES)[number]
 
 export const recentQuerySchema = z.object({
-  station: z.coerce.number().int().positive().optional(),
-  limit: z.coerce.number().int().min(1).max(200).default(20),
+  station: decimalNumber(z.number().int().positive().optional()),
+  limit: decimalNumber(z.number().int().min(1).max(200).default(20)),
 })
 
 export const curvesQuerySchema = z.object({ include: z.enum(['curves']).optional() })

@@ -1,11 +1,12 @@
 import { z } from 'zod'
+import { decimalNumber, plainText } from './input'
 import { codeSchema } from './ids'
 
 /** GET /api/lots: `?product=CODE&open=true`. */
 export const lotListQuerySchema = z.object({
   product: codeSchema.optional(),
   open: z.enum(['true', 'false']).transform((v) => v === 'true').optional(),
-  limit: z.coerce.number().int().min(1).max(1000).default(200),
+  limit: decimalNumber(z.number().int().min(1).max(1000).default(200)),
 })
 export type LotListQuery = z.infer<typeof lotListQuerySchema>
 
@@ -26,7 +27,7 @@ export const causeParamSchema = z.object({ failureClass: failureClassSchema })
 
 /** PUT /api/causes/:failureClass. */
 export const causePutSchema = z.object({
-  label: z.string().trim().min(1, 'label must not be empty').max(80).optional(),
-  causes: z.array(z.string().trim().min(1, 'a cause must not be empty').max(200)).max(20),
+  label: plainText().trim().min(1, 'label must not be empty').max(80).optional(),
+  causes: z.array(plainText().trim().min(1, 'a cause must not be empty').max(200)).max(20),
 })
 export type CausePutInput = z.infer<typeof causePutSchema>

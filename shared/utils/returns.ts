@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { decimalNumber, plainText } from './input'
 import { uploadFieldsSchema } from './recordings'
 import { normalizeSerialQuery } from './units'
 import type { CompareFigure, CompareFigures, CompareReading, DeltaRow, Disposition } from '../types/returns'
@@ -21,6 +22,12 @@ export const RETURN_DISPOSITION_LABELS: Record<Disposition, string> = {
 /** Largest attachment (CONETRAIL_MAX_ATTACHMENT_MB may lower or raise it on the server). */
 export const RETURN_ATTACHMENT_MAX_MB = 10
 export const RETURN_ATTACHMENT_TYPES = ['image/png', 'image/jpeg', 'application/pdf'] as const
+/** The file extensions of each attachment type, the usual one first (the stored key and a download take it). */
+export const RETURN_ATTACHMENT_EXTENSIONS: Record<(typeof RETURN_ATTACHMENT_TYPES)[number], readonly string[]> = {
+  'image/png': ['png'],
+  'image/jpeg': ['jpg', 'jpeg'],
+  'application/pdf': ['pdf'],
+}
 
 /** The earliest date a return may have been received: older dates are typing mistakes. */
 export const RETURN_EARLIEST_RECEIVED_ON = '2000-01-01'
@@ -57,9 +64,9 @@ export const returnCreateSchema = z.object({
       return z.NEVER
     }),
   receivedOn: isoDate,
-  customerRef: z.string().trim().max(120).default(''),
-  categoryId: z.coerce.number({ error: 'choose a complaint category' }).int().positive('choose a complaint category'),
-  complaint: z.string().trim().max(4000).default(''),
+  customerRef: plainText().trim().max(120).default(''),
+  categoryId: decimalNumber(z.number({ error: 'choose a complaint category' }).int().positive('choose a complaint category')),
+  complaint: plainText().trim().max(4000).default(''),
 })
 export type ReturnCreateInput = z.infer<typeof returnCreateSchema>
 
@@ -67,9 +74,9 @@ export type ReturnCreateInput = z.infer<typeof returnCreateSchema>
 export const returnPatchSchema = z
   .object({
     receivedOn: isoDate.optional(),
-    customerRef: z.string().trim().max(120).optional(),
-    categoryId: z.coerce.number().int().positive().optional(),
-    complaint: z.string().trim().max(4000).optional(),
+    customerRef: plainText().trim().max(120).optional(),
+    categoryId: decimalNumber(z.number().int().positive().optional()),
+    complaint: plainText().trim().max(4000).optional(),
   })
   .refine((p) => Object.keys(p).length > 0, { message: 'nothing to change' })
 export type ReturnPatchInput = z.infer<typeof returnPatchSchema>
@@ -80,35 +87,35 @@ export type ReturnPatchInput = z.infer<typeof returnPatchSchema>
  */
 export const returnCloseSchema = z.object({
   disposition: z.enum(RETURN_DISPOSITIONS).optional(),
-  cause: z.string().trim().max(500).optional(),
-  causeClass: z.string().trim().min(1).max(60).optional(),
-  note: z.string().trim().max(2000).optional(),
+  cause: plainText().trim().max(500).optional(),
+  causeClass: plainText().trim().min(1).max(60).optional(),
+  note: plainText().trim().max(2000).optional(),
 })
 export type ReturnCloseInput = z.infer<typeof returnCloseSchema>
 
 export const returnListQuerySchema = z.object({
   status: z.enum(['open', 'closed', 'all']).default('all'),
-  serial: z.string().trim().max(64).optional(),
-  limit: z.coerce.number().int().min(1).max(500).default(200),
+  serial: plainText().trim().max(64).optional(),
+  limit: decimalNumber(z.number().int().min(1).max(500).default(200)),
 })
 
-export const returnAttachmentParamSchema = z.object({ id: z.coerce.number().int().positive(), attachmentId: z.coerce.number().int().positive() })
+export const returnAttachmentParamSchema = z.object({ id: decimalNumber(z.number().int().positive()), attachmentId: decimalNumber(z.number().int().positive()) })
 
 /** The multipart fields of POST /api/returns/:id/retest; the serial is the return's own. */
 export const returnRetestFieldsSchema = uploadFieldsSchema.pick({ station: true, ambientC: true, note: true }).extend({
-  serial: z.string().trim().max(64).optional(),
+  serial: plainText().trim().max(64).optional(),
 })
 
 export const returnCategoryCreateSchema = z.object({
   // A blank label is refused by the service with its own code (400 `label_required`).
-  label: z.string().trim().max(80, 'A category name has at most 80 characters').default(''),
-  sortOrder: z.coerce.number().int().min(0).max(100000).optional(),
+  label: plainText().trim().max(80, 'A category name has at most 80 characters').default(''),
+  sortOrder: decimalNumber(z.number().int().min(0).max(100000).optional()),
 })
 export const returnCategoryPatchSchema = z
   .object({
-    label: z.string().trim().max(80, 'A category name has at most 80 characters').optional(),
+    label: plainText().trim().max(80, 'A category name has at most 80 characters').optional(),
     active: z.boolean().optional(),
-    sortOrder: z.coerce.number().int().min(0).max(100000).optional(),
+    sortOrder: decimalNumber(z.number().int().min(0).max(100000).optional()),
   })
   .refine((p) => Object.keys(p).length > 0, { message: 'nothing to change' })
 export const returnCategoryQuerySchema = z.object({ all: z.enum(['0', '1']).default('0') })
@@ -289,4 +296,19 @@ export function returnSafeFileName(name: string, fallback = 'attachment'): strin
   const base = name.split(/[\\/]/).pop() ?? ''
   const cleaned = base.replace(/[^A-Za-z0-9._-]+/g, '_').replace(/^[._]+/, '').slice(0, 100)
   return cleaned || fallback
+}
+
+/**
+ * The name an attachment downloads under: the uploader's name made safe, with the extension of the
+ * type its bytes were found to be, so a PNG uploaded as "photo.html" downloads as "photo.png" and is
+ * never opened as a page. An extension that already fits the type stays ("scan.JPEG").
+ */
+export function returnDownloadName(name: string, type: (typeof RETURN_ATTACHMENT_TYPES)[number], fallbackStem = 'attachment'): string {
+  const safe = returnSafeFileName(name, '')
+  const dot = safe.lastIndexOf('.')
+  const ext = dot > 0 ? safe.slice(dot + 1) : ''
+  const fits = RETURN_ATTACHMENT_EXTENSIONS[type]
+  if (ext && fits.includes(ext.toLowerCase())) return safe
+  const stem = dot > 0 ? safe.slice(0, dot) : safe
+  return `${stem || fallbackStem}.${fits[0]}`
 }

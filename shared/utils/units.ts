@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { plainText } from './input'
 import type { Verdict } from './verdict'
 
 /** Shortest text the unit search takes (one character would list a whole factory). */
@@ -67,7 +68,7 @@ export const sendCertificateSchema = z.object({
   to: z
     .union([email.transform((a) => [a]), z.array(email).min(1, 'Name at least one recipient').max(MAX_CERTIFICATE_RECIPIENTS, `At most ${MAX_CERTIFICATE_RECIPIENTS} recipients`)])
     .transform((list) => [...new Set(list)]),
-  message: z.string().trim().max(4000).optional(),
+  message: plainText().trim().max(4000).optional(),
 })
 export type SendCertificateInput = z.output<typeof sendCertificateSchema>
 

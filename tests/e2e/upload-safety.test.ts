@@ -2,9 +2,11 @@ import { existsSync, readdirSync, readFileSync } from 'node:fs'
 import { isAbsolute, join, relative, resolve } from 'node:path'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
-import { useTestServer } from '../support/app'
+import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
+import type { ReturnAttachmentView, ReturnCategoryView, ReturnView } from '../../shared/types/returns'
+import { signIn, useTestServer } from '../support/app'
 import { closeTestDb, makeProduct, makeStation, testDb, unique } from '../support/db'
-import { postRecording } from '../support/upload'
+import { postRecording, rawMultipart, type RawPart } from '../support/upload'
 
 // Seeds 1750–1799 (this file's range). No worker: these checks are about what the upload stores.
 const host = await useTestServer()
@@ -98,5 +100,117 @@ describe('upload hardening', () => {
       const body = Buffer.from(await r.arrayBuffer())
       expect(body.subarray(0, 4).toString()).not.toBe('RIFF')
     }
+  })
+})
+
+/** Sends a hand-built multipart body to the upload route with the station's token. */
+async function uploadRaw(parts: RawPart[]): Promise<{ status: number; body: { message: string; data: { code: string } } }> {
+  const { body, contentType } = rawMultipart(parts)
+  const res = await fetch(new URL('/api/recordings', host), { method: 'POST', headers: { authorization: `Bearer ${station.token}`, 'content-type': contentType }, body })
+  return { status: res.status, body: (await res.json()) as never }
+}
+const uploadTmp = () => readdirSync(join(inject('dataDir'), 'tmp', 'uploads'))
+
+describe('a multipart body of the wrong shape', () => {
+  const fields = (): RawPart[] => [{ name: 'serial', value: unique('SHAPE') }, { name: 'product', value: product.code }]
+  const wav = (name = 'file', fileName = 'sweep.wav'): RawPart => ({ name, fileName, value: generateRecording({ seed: 1755 }) })
+
+  // Each of these once answered 413 "larger than the limit": the answer now says what is wrong.
+  it.each([
+    ['a file part without a Content-Type', () => [...fields(), { ...wav(), type: null }], /"file" has a file name but no Content-Type/],
+    ['a small file part without a Content-Type', () => [...fields(), { name: 'file', fileName: 'table.txt', value: '20,6.1\n40,6.3', type: null }], /"file" has a file name but no Content-Type/],
+    ['two file parts', () => [...fields(), wav(), wav()], /two file parts named "file"/],
+    ['an extra file field beside the file', () => [...fields(), wav(), wav('photo', 'photo.png')], /"photo" is sent as a file/],
+    ['a file only in another field', () => [...fields(), wav('recording')], /"recording" is sent as a file/],
+    ['too many text fields', () => [...fields(), ...Array.from({ length: 25 }, (_, i) => ({ name: `x${i}`, value: 'y' })), wav()], /more than 20 text fields/],
+    ['an oversized text field', () => [...fields(), { name: 'note', value: 'n'.repeat(70 * 1024) }, wav()], /text fields are larger than 64 KB/],
+  ] as const)('answers %s with 400 bad_multipart and the reason, and stores nothing', async (_label, parts, reason) => {
+    const before = await testDb()('recordings').count({ n: '*' })
+    const tmpBefore = uploadTmp()
+    const res = await uploadRaw(parts())
+    expect([res.status, res.body.data.code]).toEqual([400, 'bad_multipart'])
+    expect(res.body.message).toMatch(reason)
+    expect(res.body.message).not.toMatch(/MB limit/)
+    expect(await testDb()('recordings').count({ n: '*' })).toEqual(before)
+    expect(uploadTmp()).toEqual(tmpBefore)
+  })
+
+  it('keeps 413 too_large for a file that really is over the limit', async () => {
+    const tmpBefore = uploadTmp()
+    const res = await uploadRaw([...fields(), { name: 'file', fileName: 'big.wav', value: new Uint8Array(9 * 1024 * 1024) }])
+    expect([res.status, res.body.data.code]).toEqual([413, 'too_large'])
+    expect(uploadTmp()).toEqual(tmpBefore)
+  })
+})
+
+describe('numbers in form fields', () => {
+  it.each(['0x10', '1e3', '1e1', 'Infinity', '0b10', '12.', '+'])('refuses room temperature %j: only plain decimals are read', async (ambientC) => {
+    const before = await testDb()('recordings').count({ n: '*' })
+    const res = await postRecording(host, { token: station.token }, { serial: unique('NUM'), product: product.code, ambientC }, { bytes: impedanceTable(), name: 'z.txt' })
+    expect([res.status, res.body.data?.code]).toEqual([400, 'invalid_input'])
+    expect(res.body.message).toContain('Room temperature (ambientC) must be a number of °C')
+    expect(await testDb()('recordings').count({ n: '*' })).toEqual(before)
+  })
+
+  it.each([
+    ['12,5', 12.5],
+    [' 12', 12],
+    ['-3.25', -3.25],
+  ])('reads room temperature %j as %d °C', async (ambientC, value) => {
+    // Each its own table (a different last point), so none is a duplicate of another.
+    const table = `${impedanceTable()}\n30000,${(7 + value / 100).toFixed(4)}`
+    const res = await postRecording(host, { token: station.token }, { serial: unique('NUM'), product: product.code, ambientC }, { bytes: table, name: 'z.txt' })
+    expect(res.status).toBe(202)
+    expect(Number((await testDb()('recordings').where({ id: res.body.id }).first()).ambient_c)).toBe(value)
+  })
+
+  it.each(['0x10', '1e1', 'Infinity', ' '])('refuses a query number %j (the recent list\'s limit)', async (limit) => {
+    const res = await fetch(new URL(`/api/recordings?limit=${encodeURIComponent(limit)}`, host), { headers: { authorization: `Bearer ${station.token}` } })
+    if (limit.trim() === '') {
+      // An empty field is "not given": the default limit, never 0.
+      expect(res.status).toBe(200)
+    } else {
+      expect(res.status).toBe(400)
+      expect(((await res.json()) as { data: { code: string } }).data.code).toBe('invalid_input')
+    }
+  })
+})
+
+describe('an attachment whose name lies about its type', () => {
+  /** A valid 1×1 PNG (signature, IHDR, IDAT, IEND; PNG spec ISO/IEC 15948). */
+  const PNG = Buffer.from('89504e470d0a1a0a0000000d4948445200000001000000010806000000' + '1f15c4890000000d49444154789c6360000002000005' + '0001e226059b0000000049454e44ae426082', 'hex')
+  let support = ''
+  let returnId = 0
+
+  beforeAll(async () => {
+    support = (await signIn(host, demoEmail('support'), DEMO_PASSWORD)).cookie
+    const serial = unique('ATT')
+    expect((await postRecording(host, { token: station.token }, { serial, product: product.code }, { bytes: generateRecording({ seed: 1756 }), name: 'f.wav' })).status).toBe(202)
+    const get = (path: string) => fetch(new URL(path, host), { headers: { cookie: support } })
+    const [category] = (await (await get('/api/return-categories')).json()) as ReturnCategoryView[]
+    const res = await fetch(new URL('/api/returns', host), {
+      method: 'POST',
+      headers: { cookie: support, 'content-type': 'application/json' },
+      body: JSON.stringify({ serial, receivedOn: new Date().toISOString().slice(0, 10), categoryId: category!.id }),
+    })
+    expect(res.status).toBe(201)
+    returnId = ((await res.json()) as ReturnView).id
+  })
+
+  it.each([
+    ['photo.html', 'photo.png'],
+    ['cone.svg', 'cone.png'],
+    ['no extension', 'no_extension.png'],
+    ['SHOUT.PNG', 'SHOUT.PNG'],
+  ])('downloads a PNG uploaded as %s under %s: the extension follows the bytes, the name stays', async (uploaded, downloaded) => {
+    const form = new FormData()
+    form.append('file', new Blob([PNG]), uploaded)
+    const res = await fetch(new URL(`/api/returns/${returnId}/attachments`, host), { method: 'POST', headers: { cookie: support }, body: form })
+    expect(res.status).toBe(201)
+    const added = (await res.json()) as ReturnAttachmentView
+    expect(added.contentType).toBe('image/png')
+    const got = await fetch(new URL(`/api/returns/${returnId}/attachments/${added.id}`, host), { headers: { cookie: support } })
+    expect(got.headers.get('content-type')).toBe('image/png')
+    expect(got.headers.get('content-disposition')).toBe(`attachment; filename="${downloaded}"; filename*=UTF-8''${downloaded}`)
   })
 })

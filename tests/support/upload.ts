@@ -37,3 +37,27 @@ export async function waitFinished(host: string, auth: Auth, id: number, timeout
     await new Promise((r) => setTimeout(r, 150))
   }
 }
+
+/** One part of a hand-built multipart body: a text field, or a file part (`fileName` set; `type` null leaves out its Content-Type). */
+export interface RawPart {
+  name: string
+  value: string | Uint8Array
+  fileName?: string
+  type?: string | null
+}
+
+/**
+ * A multipart/form-data body built byte by byte, for shapes and names a FormData would not send
+ * (a file part without a Content-Type, a control character in a file name).
+ */
+export function rawMultipart(parts: RawPart[]): { body: Uint8Array<ArrayBuffer>; contentType: string } {
+  const boundary = `----conetrail-test-${Math.random().toString(36).slice(2)}`
+  const chunks: Buffer[] = []
+  for (const p of parts) {
+    const disposition = `form-data; name="${p.name}"${p.fileName === undefined ? '' : `; filename="${p.fileName}"`}`
+    const type = p.fileName === undefined || p.type === null ? '' : `Content-Type: ${p.type ?? 'application/octet-stream'}\r\n`
+    chunks.push(Buffer.from(`--${boundary}\r\nContent-Disposition: ${disposition}\r\n${type}\r\n`, 'utf8'), Buffer.from(p.value), Buffer.from('\r\n'))
+  }
+  chunks.push(Buffer.from(`--${boundary}--\r\n`))
+  return { body: new Uint8Array(Buffer.concat(chunks)), contentType: `multipart/form-data; boundary=${boundary}` }
+}

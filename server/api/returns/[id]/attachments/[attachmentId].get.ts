@@ -1,13 +1,13 @@
 import { readReturnAttachment } from '../../../../services/returns'
 import { useAttachmentStorage } from '../../../../storage/attachments'
-import { returnAttachmentParamSchema, returnSafeFileName } from '../../../../../shared/utils/returns'
+import { returnAttachmentParamSchema, returnDownloadName } from '../../../../../shared/utils/returns'
 
-/** The attachment's bytes as a download: the type it was stored as, a sanitised name, no sniffing. */
+/** The attachment's bytes as a download: the type it was stored as, a sanitised name with that type's extension, no sniffing. */
 export default defineEventHandler(async (event) => {
   await requireRole(event, 'support', 'quality', 'engineer')
   const { id, attachmentId } = await getValidatedRouterParams(event, zodValidator(returnAttachmentParamSchema))
   const { view, bytes } = await readReturnAttachment(useDb(), useAttachmentStorage(), id, attachmentId)
-  const name = returnSafeFileName(view.originalName, `attachment-${view.id}`)
+  const name = returnDownloadName(view.originalName, view.contentType, `attachment-${view.id}`)
   setResponseHeader(event, 'content-type', view.contentType)
   setResponseHeader(event, 'content-disposition', `attachment; filename="${name}"; filename*=UTF-8''${encodeURIComponent(name)}`)
   setResponseHeader(event, 'x-content-type-options', 'nosniff')
