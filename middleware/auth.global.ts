@@ -9,9 +9,11 @@ import { roleAllows } from '#shared/utils/roles'
 export default defineNuxtRouteMiddleware(async (to) => {
   // An invitation link is opened by someone who has no account yet.
   if (to.path.startsWith('/invite/')) return
-  const { loggedIn, user } = useUserSession()
+  const { loggedIn, user, session } = useUserSession()
   let ended = false
   if (loggedIn.value) ended = !(await syncSession())
+  // The server found this browser's session ended (signed out elsewhere, deactivated): say so.
+  else if (session.value?.ended === true) ended = true
   if (to.path === '/login') {
     return loggedIn.value && user.value ? navigateTo(homeFor(user.value.role)) : undefined
   }

@@ -4,6 +4,7 @@ import type { ErrorCode } from '../../shared/utils/error-codes'
 import type { Knex } from 'knex'
 import { acceptInvitation, createInvitation, revokeInvitation } from '../repos/invitations'
 import { getUserById, listPeople, lockActiveAdmins, setActive, setRole } from '../repos/people'
+import { endSessionsOfUser } from '../repos/sessions'
 import { recordAudit } from './audit'
 import { sendInvitationMail } from '../mail/invitation'
 import { INVITATION_HOURS, type InviteInput, type PersonPatch } from '../../shared/utils/people'
@@ -90,6 +91,8 @@ export async function changePerson(db: Knex, by: Actor, id: number, patch: Perso
     }
     if (patch.active !== undefined && patch.active !== person.active) {
       await setActive(trx, id, patch.active, by.id)
+      // The person's open sessions end with the account (users.sessions_valid_from keeps refusing them too).
+      if (!patch.active) await endSessionsOfUser(trx, id, 'deactivated')
       await recordAudit(trx, { ...audit, action: patch.active ? 'user.reactivate' : 'user.deactivate', detail: { role: patch.role ?? person.role } })
     }
   })

@@ -1,8 +1,9 @@
-/** Sign-in and sign-out: the password check under the sign-in limits, and what the audit log records (the session cookie stays with the route). */
+/** Sign-in and sign-out: the password check under the sign-in limits, the end of a session, and what the audit log records (the session cookie stays with the route). */
 import type { Knex } from 'knex'
 import type { User } from '#auth-utils'
 import { getUserByEmail, normaliseEmail, recordLogin } from '../repos/people'
-import { recordSignInFailure, recordSignInSuccess, signInRetryAfter } from '../utils/rate-limit'
+import { endSessionRow } from '../repos/sessions'
+import { recordSignInSuccess, reserveSignInTry } from '../utils/rate-limit'
 import { DomainError } from '../../shared/utils/domain-error'
 import { recordAudit } from './audit'
 
@@ -16,17 +17,17 @@ let decoyHash: Promise<string> | undefined
  */
 export async function signIn(db: Knex, input: { email: string; password: string }, ip: string | null): Promise<User> {
   const email = normaliseEmail(input.email)
-  const wait = await signInRetryAfter(email, ip)
+  // The try is counted before the password is checked: tries sent at once cannot outrun the limit.
+  const wait = await reserveSignInTry(email, ip)
   if (wait > 0) throw new DomainError('sign_in_limited', `Too many failed sign-ins: try again in ${Math.ceil(wait / 60)} min`, { retryAfterS: wait })
   const row = await getUserByEmail(db, email)
   decoyHash ??= hashPassword('decoy password, never matches')
   const ok = await verifyPassword(row?.password_hash ?? (await decoyHash), input.password)
   if (!row || !ok || !row.active) {
-    await recordSignInFailure(email, ip)
     await noteSignInRefused(db, { email, userId: row?.id ?? null, reason: !row ? 'unknown_email' : !ok ? 'wrong_password' : 'deactivated', ip })
     throw new DomainError('invalid_credentials', 'Wrong e-mail or password')
   }
-  await recordSignInSuccess(email)
+  await recordSignInSuccess(email, ip)
   const user = { id: Number(row.id), email: row.email, displayName: row.display_name, role: row.role }
   await noteSignIn(db, user, ip)
   return user
@@ -46,7 +47,11 @@ async function noteSignIn(db: Knex, user: { id: number; email: string }, ip: str
   await recordAudit(db, { userId: user.id, action: 'auth.sign_in', entity: 'user', entityId: user.id, subject: user.email, ip })
 }
 
-/** Audits a sign-out. */
-export async function noteSignOut(db: Knex, user: { id: number; email: string }, ip: string | null): Promise<void> {
+/**
+ * Signs a session out on the server: its row ends, so any copy of its cookie is refused from now
+ * on. Audited once, when the session was still open (a replayed copy changes nothing).
+ */
+export async function signOut(db: Knex, sessionId: string, user: { id: number; email: string }, ip: string | null): Promise<void> {
+  if (!(await endSessionRow(db, sessionId, 'sign_out'))) return
   await recordAudit(db, { userId: user.id, action: 'auth.sign_out', entity: 'user', entityId: user.id, subject: user.email, ip })
 }

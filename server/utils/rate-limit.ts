@@ -1,7 +1,9 @@
 /**
  * Sign-in rate limits (rate-limiter-flexible, PostgreSQL store in the `sign_in_limits` table, so
  * every web server behind a load balancer counts together and a restart forgets nothing).
- * Only failed sign-ins count:
+ * Each try takes its place in both counts before its password is checked, so tries sent at once
+ * cannot all be checked before the count catches up: at most the limit is ever checked. A
+ * successful sign-in gives its place back, so in effect only failed sign-ins count:
  *  - per account (the e-mail tried, known or not): 10 failures in 15 min block it for 15 min;
  *    a successful sign-in clears the account's count;
  *  - per address: 100 failures in an hour block the address for an hour (a shop floor behind one
@@ -49,35 +51,34 @@ function useLimiters() {
   return limiters
 }
 
-/** Seconds until a blocked caller may try again, or 0 when it may try now. */
-export async function signInRetryAfter(email: string, address: string | null): Promise<number> {
+/**
+ * Takes a place for one sign-in try in the account's count and the address's, before the password
+ * is checked (PostgreSQL adds the point and reads the total in one statement). Answers the seconds
+ * to wait when either count is already full (nothing is then taken from the other), else 0. The try
+ * that goes past a limit starts that key's block, for a full window from now.
+ */
+export async function reserveSignInTry(email: string, address: string | null): Promise<number> {
   const { account, address: byAddress } = useLimiters()
-  const l = limits()
-  const states = await Promise.all([account.get(email), address ? byAddress.get(address) : null])
-  const waits = states.map((s, i) => {
-    const max = i === 0 ? l.account.failures : l.address.failures
-    return s && s.consumedPoints >= max ? s.msBeforeNext : 0
-  })
-  return Math.ceil(Math.max(...waits) / 1000)
+  const accountWait = await take(account, email)
+  if (accountWait > 0 || !address) return accountWait
+  const addressWait = await take(byAddress, address)
+  if (addressWait > 0) await account.reward(email, 1)
+  return addressWait
 }
 
-/** Counts one failed sign-in against the account and the address; when a count reaches its limit, the block starts now for a full window. */
-export async function recordSignInFailure(email: string, address: string | null): Promise<void> {
-  const { account, address: byAddress } = useLimiters()
-  await Promise.all([penalise(account, email), address ? penalise(byAddress, address) : null])
-}
-
-async function penalise(limiter: RateLimiterPostgres, key: string) {
+/** Consumes one point: 0 when taken, the seconds until the key may try again when refused. */
+async function take(limiter: RateLimiterPostgres, key: string): Promise<number> {
   try {
-    const res = await limiter.consume(key)
-    if (res.remainingPoints === 0) await limiter.block(key, limiter.blockDuration)
+    await limiter.consume(key)
+    return 0
   } catch (err) {
-    // Over the limit already (concurrent failures): it stays blocked.
     if (!(err instanceof RateLimiterRes)) throw err
+    return Math.max(1, Math.ceil(err.msBeforeNext / 1000))
   }
 }
 
-/** A successful sign-in clears the account's failures (not the address's). */
-export async function recordSignInSuccess(email: string): Promise<void> {
-  await useLimiters().account.delete(email)
+/** A successful sign-in clears the account's count and gives its address back the place it took (an address keeps its failures). */
+export async function recordSignInSuccess(email: string, address: string | null): Promise<void> {
+  const { account, address: byAddress } = useLimiters()
+  await Promise.all([account.delete(email), address ? byAddress.reward(address, 1) : null])
 }

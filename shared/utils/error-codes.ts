@@ -24,6 +24,7 @@ export const ERROR_CODES = {
   invalid_token: { status: 401, message: 'This station token is not valid (revoked or mistyped)' },
   forbidden: { status: 403, message: 'Your role does not allow this' },
   wrong_station: { status: 403, message: 'This token belongs to another station' },
+  cross_origin: { status: 403, message: 'Changes are taken only from Conetrail\'s own pages' },
 
   // A resource named in the path that does not exist.
   not_found: { status: 404, message: 'Nothing here' },
@@ -61,6 +62,7 @@ export const ERROR_CODES = {
   // Uploads the server will not take.
   too_large: { status: 413, message: 'The file is larger than the upload limit' },
   not_multipart: { status: 415, message: 'Send the file as multipart/form-data' },
+  unsupported_media_type: { status: 415, message: 'Send the body as JSON (application/json)' },
   unsupported_file: { status: 415, message: 'The file is neither a WAVE recording nor a text impedance table' },
   unsupported_attachment: { status: 415, message: 'Attach a photo (PNG or JPEG) or a PDF document' },
   not_wave: { status: 415, message: 'The file is not a WAVE recording' },

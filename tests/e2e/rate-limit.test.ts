@@ -85,3 +85,22 @@ describe('per address', () => {
     expect((await login(real, DEMO_PASSWORD, newAddress())).status).toBe(200)
   })
 })
+
+describe('attempts sent at once', () => {
+  const tally = (answers: { status: number }[]) => answers.reduce<Record<number, number>>((t, a) => ({ ...t, [a.status]: (t[a.status] ?? 0) + 1 }), {})
+
+  it(`check at most ${perAccount.failures} passwords of one account, however many arrive together`, async () => {
+    const email = await account()
+    const answers = await Promise.all(Array.from({ length: 50 }, () => login(email, 'wrong password', newAddress())))
+    // Each try takes its place in the count before its password is checked: exactly the limit is checked.
+    expect(tally(answers)).toEqual({ 401: perAccount.failures, 429: 50 - perAccount.failures })
+    expect(answers.filter((a) => a.status === 429).every((a) => a.code === 'sign_in_limited')).toBe(true)
+  })
+
+  it(`check at most ${perAddress.failures} passwords from one address, however many arrive together`, async () => {
+    const from = newAddress()
+    const tries = Array.from({ length: 3 * perAddress.failures }, () => `${unique('burst').toLowerCase()}@example.test`)
+    const answers = await Promise.all(tries.map((e) => login(e, 'guess', from)))
+    expect(tally(answers)).toEqual({ 401: perAddress.failures, 429: 2 * perAddress.failures })
+  })
+})

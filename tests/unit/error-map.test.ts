@@ -22,6 +22,7 @@ import { INVITATION_ERROR_CODES } from '../../server/repos/invitations'
 import { PRODUCT_CONFLICT_CODES, ProductConflict } from '../../server/repos/products'
 import { StationConflict } from '../../server/repos/stations'
 import { MAIL_ERROR_CODES } from '../../server/mail/index'
+import { REQUEST_ORIGIN_ERROR_CODES } from '../../server/utils/request-origin'
 import { StorageUnavailable } from '../../server/storage/recordings'
 import { ConfigError } from '../../server/utils/config'
 import { InputValidationError, RETRY_AFTER_S, errorAnswer, loggablePath, zodValidator } from '../../server/utils/errors'
@@ -40,6 +41,7 @@ const CODE_LISTS: Record<string, readonly string[]> = {
   'invitations repo': INVITATION_ERROR_CODES,
   'products repo': PRODUCT_CONFLICT_CODES,
   'mail': MAIL_ERROR_CODES,
+  'request origin guard (server/utils/request-origin.ts)': REQUEST_ORIGIN_ERROR_CODES,
   'single-code errors': [new StationConflict('x').code, new StorageUnavailable('ENOSPC', 'x').code, new ConfigError('x').code, 'invalid_input'],
 }
 
