@@ -25,8 +25,9 @@ beforeAll(async () => {
 afterAll(() => closeTestDb())
 
 /** A valid impedance table (frequency, magnitude) of 40 points. */
+/** 10 Hz to 4.7 kHz: it covers the product's band (up to the top of its 3 kHz sensitivity band). */
 function impedanceTable(): string {
-  return Array.from({ length: 40 }, (_, i) => {
+  return Array.from({ length: 45 }, (_, i) => {
     const f = 10 * 1.15 ** i
     return `${f.toFixed(3)},${(6 + 30 / (1 + ((f - 60) / 12) ** 2)).toFixed(3)}`
   }).join('\n')
