@@ -23,7 +23,7 @@ import type {
   PerChannel,
   ThdAtPoint,
 } from './types.ts'
-import { validateRecording, type ChannelStats } from './validate.ts'
+import { validateRecording, type ChannelStats, type ValidatedRecording } from './validate.ts'
 import { ENGINE_VERSION } from './version.ts'
 
 /** SPL reference pressure, 20 µPa (IEC 61672-1). */
@@ -78,7 +78,8 @@ export const RUB_BUZZ_LIMIT_DB = -50
 const RUB_BUZZ_BLOCK_CYCLES = 2
 const RUB_BUZZ_MIN_BLOCK_S = 0.005
 
-function checkProfile(profile: StationProfile): StationProfile {
+/** The profile, parsed with its defaults. @throws AnalysisInputError `invalid_profile`. */
+export function checkProfile(profile: StationProfile): StationProfile {
   const parsed = stationProfileSchema.safeParse(profile)
   if (!parsed.success) {
     throw new AnalysisInputError('invalid_profile', `Invalid station profile: ${parsed.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ')}`)
@@ -276,16 +277,18 @@ function zminAbove(freqHz: number[], mag: (number | null)[], aboveHz: number): {
 }
 
 /**
- * Analyses one station recording (exponential sweep; mic, drive and/or sense channels).
+ * Analyses one station recording (exponential sweep; mic, drive and/or sense channels): its bytes,
+ * or the recording validateRecordingSource decoded from a file with the same profile (the worker
+ * does that, so it never holds the file's bytes beside the decoded channels).
  * @throws AnalysisInputError for bad input or a station fault (see validateRecording).
  */
-export function analyzeRecording(bytes: Uint8Array, profileIn: StationProfile, options: AnalyzeOptions = {}): AnalysisResult {
+export function analyzeRecording(bytes: Uint8Array | ValidatedRecording, profileIn: StationProfile, options: AnalyzeOptions = {}): AnalysisResult {
   const tStart = performance.now()
   const profile = checkProfile(profileIn)
   const band = options.sensitivityBandHz ?? DEFAULT_SENSITIVITY_BAND_HZ
   const rbLimit = options.rubBuzzLimitDb ?? RUB_BUZZ_LIMIT_DB
   const timings: AnalysisTimings = { validate: 0, deconvolve: 0, impedance: 0, fit: 0, response: 0, distortion: 0, rubBuzz: 0, total: 0 }
-  const v = validateRecording(bytes, profile, { allowClipped: options.allowClipped ?? false })
+  const v = bytes instanceof Uint8Array ? validateRecording(bytes, profile, { allowClipped: options.allowClipped ?? false }) : bytes
   timings.validate = v.validationMs
   const fs = v.sampleRate
   const sweep = profile.sweep

@@ -18,6 +18,8 @@ export const ANALYSIS_ERROR_CODES = [
   'clipped',
   'silent_drive',
   'non_finite',
+  'duplicate_chunk',
+  'drive_probe_fault',
   'invalid_profile',
   'table_too_few_points',
   'table_not_increasing',

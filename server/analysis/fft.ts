@@ -44,6 +44,17 @@ function plan(size: number): FFT {
   return p
 }
 
+/**
+ * Drops the plans and scratch buffers kept for transforms longer than `aboveLength`. A long
+ * recording's transforms keep hundreds of MB this way, and the next recording may be short: the
+ * worker calls this after each recording, so what one recording needed is not kept for the rest.
+ */
+export function releaseTransformCaches(aboveLength = 0): void {
+  for (const cache of [plans, scratch, twiddles, inverseScratch] as Map<number, unknown>[]) {
+    for (const n of [...cache.keys()]) if (n > aboveLength) cache.delete(n)
+  }
+}
+
 export function isPowerOfTwo(n: number): boolean {
   return Number.isInteger(n) && n >= 2 && (n & (n - 1)) === 0
 }

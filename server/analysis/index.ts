@@ -11,19 +11,25 @@ export {
   type StationProfile,
   type StationProfileInput,
 } from '../../shared/utils/station-profile.ts'
-export { parseWavLayout, decodeChannel, MAX_RECORDING_BYTES, type WavLayout, type SampleEncoding } from './wav-reader.ts'
+export { parseWavLayout, readWavLayout, decodeChannel, MAX_RECORDING_BYTES, type ByteSource, type WavLayout, type SampleEncoding } from './wav-reader.ts'
 export {
   validateRecording,
+  validateRecordingSource,
+  PROBE_FAULT_MIC_SNR_DB,
+  VALIDATION_BLOCK_BYTES,
   MIN_SAMPLE_RATE_HZ,
   MAX_SAMPLE_RATE_HZ,
   CLIP_THRESHOLD,
   CLIP_RUN_SAMPLES,
   type ChannelStats,
   type ValidatedRecording,
+  type ValidateOptions,
 } from './validate.ts'
+export { analysisMemoryBytes, ANALYSIS_WORKING_ARRAYS } from './memory.ts'
 export {
   analyzeRecording,
   analyzeImpedanceTable,
+  checkProfile,
   speedOfSoundMs,
   DEFAULT_SENSITIVITY_BAND_HZ,
   DEFAULT_THD_AT_HZ,
@@ -67,5 +73,5 @@ export {
   type SmoothingFraction,
 } from './grid.ts'
 export { generateSweep, harmonicDelayS, sweepFrequencyAt, sweepTimeAt, SWEEP_FADE_S } from './sweep.ts'
-export { rfft, irfft, nextPowerOfTwo } from './fft.ts'
+export { rfft, irfft, nextPowerOfTwo, releaseTransformCaches } from './fft.ts'
 export type * from './types.ts'

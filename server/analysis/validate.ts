@@ -1,6 +1,6 @@
 import { AnalysisInputError } from './errors.ts'
 import type { ChannelRole, StationProfile } from '../../shared/utils/station-profile.ts'
-import { decodeChannel, parseWavLayout, type SampleEncoding } from './wav-reader.ts'
+import { decodeFrames, parseWavLayout, readWavLayout, type ByteSource, type SampleEncoding, type WavLayout } from './wav-reader.ts'
 
 /** Accepted station sample rates (stations differ; any common audio rate from 44.1 to 192 kHz is fine). */
 export const MIN_SAMPLE_RATE_HZ = 44_100
@@ -20,6 +20,13 @@ export const SILENT_DRIVE_FRACTION = 0.01
 export const COLLAPSED_DRIVE_FRACTION = 0.1
 /** Sense-resistor RMS above this fraction of the sweep level counts as current flowing. */
 export const CURRENT_PRESENT_FRACTION = 0.1
+/**
+ * A mic channel this far above its own noise floor hears the unit play (common practice: a signal
+ * 20 dB above the noise is plainly present). With the drive silent and current flowing, that
+ * means the drive-voltage probe reads nothing, not that the unit is shorted: a shorted unit is
+ * silent.
+ */
+export const PROBE_FAULT_MIC_SNR_DB = 20
 /** Pre-silence kept clear of the sweep's start when measuring the noise floor. */
 export const NOISE_GUARD_S = 0.005
 /** Reported SNR is capped here (a noise-free synthetic file would otherwise read infinite). */
@@ -51,28 +58,22 @@ export interface ValidatedRecording {
   validationMs: number
 }
 
-function rmsOf(x: Float64Array, from: number, to: number): number {
-  const a = Math.max(0, from)
-  const b = Math.min(x.length, to)
-  if (b <= a) return 0
-  let s = 0
-  for (let i = a; i < b; i++) s += x[i]! * x[i]!
-  return Math.sqrt(s / (b - a))
+export interface ValidateOptions {
+  allowClipped?: boolean
 }
 
-/**
- * The fast, separate validation step: structure, encoding, channel count, rate, length,
- * finiteness, clipping and a silent drive. Returns the decoded channels in volts so that the
- * analysis does not decode twice.
- * @throws AnalysisInputError with a stable code for every rejected input.
- */
-export function validateRecording(
-  bytes: Uint8Array,
-  profile: StationProfile,
-  options: { allowClipped?: boolean } = {},
-): ValidatedRecording {
-  const t0 = performance.now()
-  const layout = parseWavLayout(bytes)
+/** Bytes of a recording read at once when it is validated from a file (one piece in memory at a time). */
+export const VALIDATION_BLOCK_BYTES = 1024 * 1024
+
+/** Frames of the noise window (before the sweep, clear of its start) and of the sweep. */
+interface Windows {
+  noiseEnd: number
+  sweepStart: number
+  sweepEnd: number
+}
+
+/** Checks what the layout alone tells (channels, rate, length) and returns the sample windows. */
+function checkLayout(layout: WavLayout, profile: StationProfile): Windows {
   const roles = profile.channels
   if (layout.channels !== roles.length) {
     throw new AnalysisInputError(
@@ -101,50 +102,146 @@ export function validateRecording(
       `The recording holds ${(layout.frames / fs).toFixed(3)} s; the sweep needs ${(sweepEnd / fs).toFixed(3)} s (pre-silence + sweep).`,
     )
   }
-  const channels: Partial<Record<ChannelRole, Float64Array>> = {}
-  const stats: ChannelStats[] = []
-  const noiseEnd = sweepStart - Math.round(NOISE_GUARD_S * fs)
-  for (let c = 0; c < roles.length; c++) {
-    const role = roles[c]!
-    const fsV = profile.fullScaleV[c]!
-    const x = decodeChannel(bytes, layout, c, fsV)
-    const clipLevel = CLIP_THRESHOLD * fsV
-    let peak = 0
-    let run = 0
-    let clipped = false
-    for (let i = 0; i < x.length; i++) {
+  return { noiseEnd: sweepStart - Math.round(NOISE_GUARD_S * fs), sweepStart, sweepEnd }
+}
+
+/** Shortest pre-silence (frames) that gives a noise floor. */
+const MIN_NOISE_FRAMES = 16
+
+/** Running figures of one channel, fed its samples in order (the whole channel at once, or piece by piece). */
+class ChannelScan {
+  peak = 0
+  run = 0
+  clipped = false
+  /** First frame holding a NaN or an infinity, or −1. */
+  nonFiniteAt = -1
+  noiseSum = 0
+  sweepSum = 0
+
+  constructor(
+    private readonly clipLevel: number,
+    private readonly w: Windows,
+  ) {}
+
+  /** Feeds x[from, to), the samples of frames frame0, frame0 + 1, … */
+  feed(x: Float64Array, from: number, to: number, frame0: number): void {
+    const { noiseEnd, sweepStart, sweepEnd } = this.w
+    const clipLevel = this.clipLevel
+    let { peak, run, clipped, noiseSum, sweepSum } = this
+    for (let i = from, f = frame0; i < to; i++, f++) {
       const v = x[i]!
       if (!Number.isFinite(v)) {
-        throw new AnalysisInputError('non_finite', `Channel ${c + 1} (${role}) holds a NaN or infinite sample at frame ${i}.`, {
-          channel: c,
-        })
+        if (this.nonFiniteAt < 0) this.nonFiniteAt = f
+        continue
       }
       const a = v < 0 ? -v : v
       if (a > peak) peak = a
       if (a >= clipLevel) {
         if (++run >= CLIP_RUN_SAMPLES) clipped = true
       } else run = 0
+      if (f < noiseEnd) noiseSum += v * v
+      if (f >= sweepStart && f < sweepEnd) sweepSum += v * v
     }
-    const sweepRms = rmsOf(x, sweepStart, sweepEnd)
-    const noiseRms = noiseEnd > 16 ? rmsOf(x, 0, noiseEnd) : null
-    let snrDb: number | null = null
-    if (noiseRms !== null) {
-      snrDb = noiseRms > 0 ? Math.min(SNR_CAP_DB, 20 * Math.log10(sweepRms / noiseRms)) : SNR_CAP_DB
-      if (!Number.isFinite(snrDb)) snrDb = sweepRms > 0 ? SNR_CAP_DB : 0
-    }
-    channels[role] = x
-    stats.push({
-      role,
-      index: c,
-      fullScaleV: fsV,
-      peakV: peak,
-      peakDbfs: peak > 0 ? 20 * Math.log10(peak / fsV) : -SNR_CAP_DB,
-      sweepRmsV: sweepRms,
-      noiseRmsV: noiseRms,
-      snrDb,
-      clipped,
-    })
+    Object.assign(this, { peak, run, clipped, noiseSum, sweepSum })
   }
+}
+
+/**
+ * One recording's validation, fed its data chunk in pieces of whole frames: keeps the decoded
+ * channels (for the analysis) or only a piece's worth of scratch (for the upload check).
+ */
+class RecordingScan {
+  readonly windows: Windows
+  private readonly scans: ChannelScan[]
+  private readonly kept: Float64Array[] | null
+  private scratch: Float64Array | null = null
+  private frame = 0
+
+  constructor(
+    readonly layout: WavLayout,
+    private readonly profile: StationProfile,
+    keepChannels: boolean,
+  ) {
+    this.windows = checkLayout(layout, profile)
+    this.scans = profile.fullScaleV.map((fsV) => new ChannelScan(CLIP_THRESHOLD * fsV, this.windows))
+    this.kept = keepChannels ? profile.channels.map(() => new Float64Array(layout.frames)) : null
+  }
+
+  /** The next piece of the data chunk (whole frames). */
+  push(block: Uint8Array): void {
+    const frames = Math.floor(block.byteLength / this.layout.blockAlign)
+    for (let c = 0; c < this.scans.length; c++) {
+      let out: Float64Array
+      let at: number
+      if (this.kept) {
+        out = this.kept[c]!
+        at = this.frame
+      } else {
+        if (!this.scratch || this.scratch.length < frames) this.scratch = new Float64Array(frames)
+        out = this.scratch
+        at = 0
+      }
+      decodeFrames(block, this.layout, c, this.profile.fullScaleV[c]!, out, at)
+      this.scans[c]!.feed(out, at, at + frames, this.frame)
+    }
+    this.frame += frames
+  }
+
+  /** The figures and the rules, once every frame was pushed. */
+  finish(options: ValidateOptions, t0: number): ValidatedRecording {
+    const { layout, profile, windows } = this
+    const roles = profile.channels
+    const bad = this.scans.findIndex((s) => s.nonFiniteAt >= 0)
+    if (bad >= 0) {
+      throw new AnalysisInputError('non_finite', `Channel ${bad + 1} (${roles[bad]}) holds a NaN or infinite sample at frame ${this.scans[bad]!.nonFiniteAt}.`, {
+        channel: bad,
+      })
+    }
+    const channels: Partial<Record<ChannelRole, Float64Array>> = {}
+    const stats = this.scans.map((scan, c): ChannelStats => {
+      const fsV = profile.fullScaleV[c]!
+      const sweepFrames = windows.sweepEnd - windows.sweepStart
+      const sweepRms = sweepFrames > 0 ? Math.sqrt(scan.sweepSum / sweepFrames) : 0
+      const noiseRms = windows.noiseEnd > MIN_NOISE_FRAMES ? Math.sqrt(scan.noiseSum / windows.noiseEnd) : null
+      let snrDb: number | null = null
+      if (noiseRms !== null) {
+        snrDb = noiseRms > 0 ? Math.min(SNR_CAP_DB, 20 * Math.log10(sweepRms / noiseRms)) : SNR_CAP_DB
+        if (!Number.isFinite(snrDb)) snrDb = sweepRms > 0 ? SNR_CAP_DB : 0
+      }
+      if (this.kept) channels[roles[c]!] = this.kept[c]!
+      return {
+        role: roles[c]!,
+        index: c,
+        fullScaleV: fsV,
+        peakV: scan.peak,
+        peakDbfs: scan.peak > 0 ? 20 * Math.log10(scan.peak / fsV) : -SNR_CAP_DB,
+        sweepRmsV: sweepRms,
+        noiseRmsV: noiseRms,
+        snrDb,
+        clipped: scan.clipped,
+      }
+    })
+    const driveSilentWithCurrent = applyRules(stats, profile, options)
+    return {
+      sampleRate: layout.sampleRate,
+      frames: layout.frames,
+      encoding: layout.encoding,
+      bitsPerSample: layout.bitsPerSample,
+      extensible: layout.extensible,
+      channels,
+      stats,
+      driveSilentWithCurrent,
+      validationMs: performance.now() - t0,
+    }
+  }
+}
+
+/**
+ * The rules on the channels' figures: clipping, a silent drive, a dead drive probe. Returns
+ * whether the drive is silent with current flowing (a shorted unit, once a probe fault is ruled out).
+ * @throws AnalysisInputError `clipped`, `silent_drive`, `drive_probe_fault`.
+ */
+function applyRules(stats: ChannelStats[], profile: StationProfile, options: ValidateOptions): boolean {
   const level = profile.sweep.levelVrms
   const driveStats = stats.find((s) => s.role === 'drive')
   const senseStats = stats.find((s) => s.role === 'sense')
@@ -162,24 +259,66 @@ export function validateRecording(
       channel: st.index,
     })
   }
-  if (driveStats && driveStats.sweepRmsV < SILENT_DRIVE_FRACTION * level) {
-    if (!driveSilentWithCurrent) {
-      throw new AnalysisInputError(
-        'silent_drive',
-        `The drive channel is silent (${driveStats.sweepRmsV.toExponential(2)} V RMS during the sweep, expected about ${profile.sweep.levelVrms} V): the station played nothing.`,
-        { channel: driveStats.index },
-      )
-    }
+  const driveSilent = driveStats !== undefined && driveStats.sweepRmsV < SILENT_DRIVE_FRACTION * level
+  // A silent (or collapsed, with current flowing) drive while the microphone hears the unit: the
+  // unit is driven, so the probe that measures its terminals reads nothing. A shorted unit is
+  // silent, and a station that played nothing too. Without a noise window (no pre-silence) or a
+  // mic channel this cannot be told, and the rules below stand.
+  const micStats = stats.find((s) => s.role === 'mic')
+  const micHearsSweep = micStats?.snrDb != null && micStats.snrDb >= PROBE_FAULT_MIC_SNR_DB
+  if ((driveSilent || driveSilentWithCurrent) && micHearsSweep) {
+    throw new AnalysisInputError(
+      'drive_probe_fault',
+      `The drive channel reads ${driveStats!.sweepRmsV.toExponential(2)} V RMS during the sweep while the microphone hears the unit ${micStats!.snrDb!.toFixed(0)} dB above its noise: check the drive-voltage probe and measure again.`,
+      { channel: driveStats!.index },
+    )
   }
-  return {
-    sampleRate: fs,
-    frames: layout.frames,
-    encoding: layout.encoding,
-    bitsPerSample: layout.bitsPerSample,
-    extensible: layout.extensible,
-    channels,
-    stats,
-    driveSilentWithCurrent,
-    validationMs: performance.now() - t0,
+  if (driveSilent && !driveSilentWithCurrent) {
+    throw new AnalysisInputError(
+      'silent_drive',
+      `The drive channel is silent (${driveStats.sweepRmsV.toExponential(2)} V RMS during the sweep, expected about ${profile.sweep.levelVrms} V): the station played nothing.`,
+      { channel: driveStats.index },
+    )
   }
+  return driveSilentWithCurrent
+}
+
+/**
+ * The fast, separate validation step: structure, encoding, channel count, rate, length,
+ * finiteness, clipping, a silent drive and a dead drive probe. Returns the decoded channels in
+ * volts so that the analysis does not decode twice.
+ * @throws AnalysisInputError with a stable code for every rejected input.
+ */
+export function validateRecording(bytes: Uint8Array, profile: StationProfile, options: ValidateOptions = {}): ValidatedRecording {
+  const t0 = performance.now()
+  const layout = parseWavLayout(bytes)
+  const scan = new RecordingScan(layout, profile, true)
+  scan.push(bytes.subarray(layout.dataOffset, layout.dataOffset + layout.dataBytes))
+  return scan.finish(options, t0)
+}
+
+/**
+ * The same validation, with the same rules, of a file read in pieces of about `blockBytes`: the
+ * headers first, then the data chunk block by block. Without `keepChannels` (the upload check)
+ * no decoded copy of the recording is held, only one block's scratch; with it (the analysis) the
+ * decoded channels are filled as the blocks arrive, and the file's bytes are never held whole.
+ * `layout` skips reading the headers again when the caller already has them.
+ * @throws AnalysisInputError with a stable code for every rejected input.
+ */
+export async function validateRecordingSource(
+  src: ByteSource,
+  profile: StationProfile,
+  options: ValidateOptions & { keepChannels?: boolean; layout?: WavLayout; blockBytes?: number } = {},
+): Promise<ValidatedRecording> {
+  const t0 = performance.now()
+  const layout = options.layout ?? (await readWavLayout(src))
+  const scan = new RecordingScan(layout, profile, options.keepChannels ?? false)
+  const block = Math.max(1, Math.floor((options.blockBytes ?? VALIDATION_BLOCK_BYTES) / layout.blockAlign)) * layout.blockAlign
+  for (let o = 0; o < layout.dataBytes; o += block) {
+    const length = Math.min(block, layout.dataBytes - o)
+    const bytes = await src.read(layout.dataOffset + o, length)
+    if (bytes.byteLength !== length) throw new AnalysisInputError('truncated', 'The file ended while it was being read.')
+    scan.push(bytes)
+  }
+  return scan.finish(options, t0)
 }

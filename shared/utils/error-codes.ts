@@ -96,6 +96,8 @@ export const ERROR_CODES = {
   clipped: { status: 422, message: 'A channel is clipped' },
   silent_drive: { status: 422, message: 'The drive channel is silent' },
   non_finite: { status: 422, message: 'The recording holds values that are not numbers' },
+  duplicate_chunk: { status: 422, message: 'The recording holds a second fmt or data chunk' },
+  drive_probe_fault: { status: 422, message: 'The drive-voltage probe reads nothing while the unit plays: check the probe and measure again' },
   invalid_profile: { status: 422, message: 'The station profile is not valid' },
   table_too_few_points: { status: 422, message: 'The impedance table has too few points' },
   table_not_increasing: { status: 422, message: 'The impedance table\'s frequencies do not increase' },
@@ -117,6 +119,7 @@ export const ERROR_CODES = {
   // The server or a service it needs.
   internal_error: { status: 500, message: 'Something went wrong on the server' },
   invalid_config: { status: 500, message: 'The server\'s configuration cannot be used' },
+  busy: { status: 503, message: 'The server is busy with other uploads: send the file again in a few seconds' },
   database_unavailable: { status: 503, message: 'The database is not reachable right now; try again in a few seconds' },
   mail_not_configured: { status: 503, message: 'No SMTP server is configured and no local mail sink is running' },
   mail_failed: { status: 503, message: 'The mail server refused the message' },
