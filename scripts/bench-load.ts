@@ -5,14 +5,19 @@
  * does; plus BENCH_BROWSERS (10) people reading reports in a loop (lot list, lot report, dashboard,
  * unit lookup); BENCH_WORKERS (2) analysis workers. Then it waits for the queue to drain (at most
  * BENCH_DRAIN_S, 900 s) and prints accepted uploads, errors, upload-to-verdict latency and the
- * server's peak memory, ending with exactly one line
- *   load accepted=<n> errors=<n> lost=<n> p95_ms=<x> peak_rss_mb=<y>
+ * peak memory of the server and of each worker, ending with exactly one line
+ *   load accepted=<n> errors=<n> lost=<n> p95_ms=<x> peak_rss_mb=<server> worker_peak_rss_mb=<w1>,<w2>,...
  * Its own stack: .data/bench-load, PostgreSQL on PGPORT + 4. BENCH_BUILD=0 reuses the last build.
+ *
+ * Large uploads: BENCH_UPLOAD_MB=64 sends recordings of just under that many MiB (BENCH_RATE,
+ * 192 kHz by default, 3 channels, 32-bit PCM, the sweep as long as the size needs), BENCH_STATIONS
+ * (8 in this mode) at a time, BENCH_UPLOADS (3) per station, one right after the other's answer;
+ * the server runs with CONETRAIL_MAX_UPLOAD_MB raised to fit them. Peak memory is the figure to read.
  */
 import { readFileSync, rmSync } from 'node:fs'
 import { resolve } from 'node:path'
 import knex from 'knex'
-import { DEFAULT_PROFILE } from '../server/analysis/index'
+import { DEFAULT_PROFILE, stationProfileSchema, type StationProfile } from '../server/analysis/index'
 import { createProduct } from '../server/repos/products'
 import { createStation } from '../server/repos/stations'
 import { createMaskDraft, releaseMask } from '../server/repos/masks'
@@ -21,9 +26,14 @@ import { DEMO_PASSWORD, demoEmail } from '../seeds/01-demo-users'
 import { generateRecording } from '../fixtures/generator'
 import { startStack } from './stack'
 
-const STATIONS = Number(process.env.BENCH_STATIONS) || 30
-const PERIOD_MS = Number(process.env.BENCH_PERIOD_MS) || 200
-const SECONDS = Number(process.env.BENCH_SECONDS) || 60
+/** MiB per upload in the large-upload mode; 0: the usual 0.6 MB recording of the demo profile. */
+const UPLOAD_MB = Number(process.env.BENCH_UPLOAD_MB) || 0
+const STATIONS = Number(process.env.BENCH_STATIONS) || (UPLOAD_MB ? 8 : 30)
+const PERIOD_MS = Number(process.env.BENCH_PERIOD_MS) || (UPLOAD_MB ? 1 : 200)
+/** Uploads per station (the large-upload mode stops after these; the usual mode sends for BENCH_SECONDS). */
+const UPLOADS = Number(process.env.BENCH_UPLOADS) || (UPLOAD_MB ? 3 : Number.POSITIVE_INFINITY)
+const RATE = Number(process.env.BENCH_RATE) || 192_000
+const SECONDS = Number(process.env.BENCH_SECONDS) || (UPLOAD_MB ? 120 : 60)
 const BROWSERS = Number(process.env.BENCH_BROWSERS) || 10
 const WORKERS = Number(process.env.BENCH_WORKERS) || 2
 const DRAIN_S = Number(process.env.BENCH_DRAIN_S) || 900
@@ -33,6 +43,18 @@ const LOTS = 6
 /** Fixture seeds far from every test file's range (the stack has its own database anyway). */
 const SEED_BASE = 100_000
 const PRODUCT = 'LOAD-6'
+/** Bytes per frame of the large recordings: 3 channels of 32-bit PCM. */
+const LARGE_FRAME_BYTES = 12
+const WAVE_HEADER_BYTES = 44
+/** Pre-silence and post-silence the generator puts around the sweep, s. */
+const LARGE_SILENCE_S = 0.05 + 0.3
+
+/** The station profile of the large-upload mode: the demo profile with a sweep that fills UPLOAD_MB MiB at RATE. */
+function largeProfile(): StationProfile {
+  const frames = Math.floor((UPLOAD_MB * 1024 * 1024 - WAVE_HEADER_BYTES) / LARGE_FRAME_BYTES)
+  const durationS = Math.floor((frames / RATE - LARGE_SILENCE_S) * 10) / 10
+  return stationProfileSchema.parse({ ...DEFAULT_PROFILE, sweep: { ...DEFAULT_PROFILE.sweep, durationS, preSilenceS: 0.05 } })
+}
 
 /** A copy that differs in the least significant bits of its last samples: a new file each time (see bench-ingest). */
 function variant(wav: Buffer, n: number): Uint8Array<ArrayBuffer> {
@@ -77,6 +99,7 @@ async function main() {
     pgPort: (Number(process.env.PGPORT) || DEFAULTS.pgPort) + 4,
     database: 'conetrail_load',
     build: process.env.BENCH_BUILD !== '0',
+    env: UPLOAD_MB ? { CONETRAIL_MAX_UPLOAD_MB: String(UPLOAD_MB + 1) } : {},
   })
   const db = knex({ client: 'pg', connection: stack.databaseUrl, pool: { min: 0, max: 2 } })
   const url = (path: string) => new URL(path, stack.baseUrl)
@@ -89,22 +112,37 @@ async function main() {
       createdBy: null,
     })
     await releaseMask(db, mask, { by: null, comment: 'load benchmark' })
-    const stations = await Promise.all(Array.from({ length: STATIONS }, (_, i) => createStation(db, { name: `Load station ${i + 1}`, line: `line ${(i % LOTS) + 1}`, profile: DEFAULT_PROFILE, createdBy: null })))
-    console.log(`generating ${STATIONS} recordings (one per station; each upload is a distinct copy)...`)
-    const bases = stations.map((_, i) => generateRecording({ seed: SEED_BASE + i }))
+    const profile = UPLOAD_MB ? largeProfile() : DEFAULT_PROFILE
+    const stations = await Promise.all(Array.from({ length: STATIONS }, (_, i) => createStation(db, { name: `Load station ${i + 1}`, line: `line ${(i % LOTS) + 1}`, profile, createdBy: null })))
+    let bases: Buffer[]
+    if (UPLOAD_MB) {
+      // One large recording (generating it takes tens of seconds); every upload is a distinct copy of it.
+      console.log(`generating one ${RATE / 1000} kHz, 3-channel, 32-bit recording of a ${profile.sweep.durationS} s sweep...`)
+      const big = generateRecording({ seed: SEED_BASE, profile, sampleRate: RATE, encoding: 'pcm32' })
+      console.log(`  ${(big.length / 1048576).toFixed(1)} MiB`)
+      bases = stations.map(() => big)
+    } else {
+      console.log(`generating ${STATIONS} recordings (one per station; each upload is a distinct copy)...`)
+      bases = stations.map((_, i) => generateRecording({ seed: SEED_BASE + i }))
+    }
+    const workerPids = Array.from({ length: WORKERS }, () => stack.startWorker({}, 'ignore').pid!)
+    await sleep(2000)
+    // Signed in after the pause: generating a large recording blocks this process, and a connection
+    // the server closed meanwhile would otherwise be reused.
     const cookies: string[] = []
     for (const role of ['quality', 'engineer'] as const) {
       const res = await fetch(url('/api/auth/login'), { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: demoEmail(role), password: DEMO_PASSWORD }) })
       if (!res.ok) throw new Error(`sign-in as ${role} failed: ${res.status}`)
       cookies.push(res.headers.getSetCookie().map((c) => c.split(';')[0]).join('; '))
     }
-    for (let i = 0; i < WORKERS; i++) stack.startWorker({}, 'ignore')
-    await sleep(2000)
 
-    let peakSampled = 0
+    // VmHWM is the kernel's own peak; the sampled RSS is a cross-check.
+    const pids = [stack.serverPid, ...workerPids]
+    const peakSampled = new Map<number, number>(pids.map((p) => [p, 0]))
     const sampler = setInterval(() => {
-      peakSampled = Math.max(peakSampled, memoryMb(stack.serverPid).rss)
+      for (const p of pids) peakSampled.set(p, Math.max(peakSampled.get(p)!, memoryMb(p).rss))
     }, 250)
+    const peakOf = (pid: number) => Math.max(memoryMb(pid).peak, peakSampled.get(pid)!)
 
     const t0 = Date.now()
     const end = t0 + SECONDS * 1000
@@ -116,11 +154,11 @@ async function main() {
       // as soon as the answer comes (units do not pile up: the line waits for the station), and
       // stops when the minute is over.
       let due = t0
-      for (let n = 1; ; n++) {
+      for (let n = 1; n <= UPLOADS; n++) {
         if (due >= end || Date.now() >= end) break
         await sleep(due - Date.now())
         const serial = `LD${String(s + 1).padStart(2, '0')}-${String(n).padStart(5, '0')}`
-        const bytes = variant(bases[s]!, n)
+        const bytes = variant(bases[s]!, s * 1000 + n)
         const started = Date.now()
         due = Math.max(due + PERIOD_MS, started)
         for (let attempt = 0; ; attempt++) {
@@ -212,7 +250,8 @@ async function main() {
     const lost = ids.length - latencies.length
     const lastResultS = (Math.max(...results.map((r) => r.created.getTime())) - t0) / 1000
     const mem = memoryMb(stack.serverPid)
-    const peakMb = Math.max(mem.peak, peakSampled)
+    const peakMb = peakOf(stack.serverPid)
+    const workerPeaks = workerPids.map(peakOf)
 
     console.log(`recordings by status: ${statuses.map((s) => `${s.status} ${s.n}`).join(', ')}`)
     console.log(`analysed ${latencies.length} by ${WORKERS} worker(s); the last result ${lastResultS.toFixed(1)} s after the start (${(latencies.length / lastResultS).toFixed(1)} units/s)`)
@@ -223,7 +262,8 @@ async function main() {
     }
     if (pageErrors.length) console.log(`report errors: ${pageErrors.length} (${[...new Set(pageErrors)].slice(0, 5).join(', ')})`)
     console.log(`server memory: peak ${peakMb.toFixed(0)} MB (VmHWM), now ${mem.rss.toFixed(0)} MB`)
-    console.log(`load accepted=${ids.length} errors=${errors.length + pageErrors.length} lost=${lost} p95_ms=${percentile(latencies, 95)} peak_rss_mb=${peakMb.toFixed(0)}`)
+    workerPids.forEach((p, i) => console.log(`worker ${i + 1} memory: peak ${workerPeaks[i]!.toFixed(0)} MB (VmHWM), now ${memoryMb(p).rss.toFixed(0)} MB`))
+    console.log(`load accepted=${ids.length} errors=${errors.length + pageErrors.length} lost=${lost} p95_ms=${percentile(latencies, 95)} peak_rss_mb=${peakMb.toFixed(0)} worker_peak_rss_mb=${workerPeaks.map((w) => w.toFixed(0)).join(',')}`)
   } finally {
     await db.destroy()
     await stack.stop()

@@ -1,5 +1,18 @@
 import type { Knex } from 'knex'
-import { analyzeImpedanceTable, analyzeRecording, AnalysisInputError, parseImpedanceTable, type AnalysisResult } from '../analysis/index.ts'
+import {
+  analysisMemoryBytes,
+  analyzeImpedanceTable,
+  analyzeRecording,
+  AnalysisInputError,
+  checkProfile,
+  parseImpedanceTable,
+  readWavLayout,
+  releaseTransformCaches,
+  validateRecordingSource,
+  type AnalysisResult,
+  type AnalyzeOptions,
+  type StationProfile,
+} from '../analysis/index.ts'
 import { getActiveMask } from '../repos/masks.ts'
 import { getRecording, markFinishedWithError } from '../repos/recordings.ts'
 import { saveResult } from '../repos/results.ts'
@@ -8,12 +21,51 @@ import { getProductById } from '../repos/products.ts'
 import { getUnitById } from '../repos/units.ts'
 import type { RecordingStorage } from '../storage/recordings.ts'
 import { claimAttempt, MAX_ATTEMPTS } from '../queue/retries.ts'
+import { Capacity, positiveIntFromEnv } from '../utils/capacity.ts'
 import { judge, onlyUndecided } from '../verdict/judge.ts'
 import { requiredTableBand, tableCoverageProblem } from '../verdict/table-coverage.ts'
 import { CHECK_LABELS, type MaskLimits } from '../../shared/utils/mask.ts'
 import type { ProductView } from '../../shared/types/api.ts'
 
 export type ProcessOutcome = 'done' | 'rejected' | 'skipped'
+
+/**
+ * Memory the analyses of one worker process may hold at once (CONETRAIL_WORKER_MEMORY_MB, default
+ * 512 MB), by the engine's estimate of each recording's peak (analysisMemoryBytes). A recording
+ * waits until its share fits; one larger than the whole budget runs alone. A usual recording
+ * (48 kHz, 1.35 s, 3 channels) needs about 13 MB, a 64 MB one at 192 kHz about 1.5 GB.
+ */
+export const DEFAULT_WORKER_MEMORY_MB = 512
+/** Transforms up to this length keep their plans between recordings (a usual recording's are 65 536 long; longer ones hold tens of MB each). */
+const KEPT_TRANSFORM_LENGTH = 1 << 18
+
+let analysisMemory: Capacity | undefined
+
+function workerMemory(): Capacity {
+  analysisMemory ??= new Capacity(positiveIntFromEnv(process.env.CONETRAIL_WORKER_MEMORY_MB, DEFAULT_WORKER_MEMORY_MB) * 1024 * 1024)
+  return analysisMemory
+}
+
+/**
+ * Reads a stored sweep recording block by block into its decoded channels, within the worker's
+ * memory budget, and analyses it: the file's bytes are never held whole, let alone beside the
+ * decoded channels.
+ */
+async function analyzeStoredSweep(storage: RecordingStorage, key: string, profileIn: StationProfile, options: AnalyzeOptions): Promise<AnalysisResult> {
+  const profile = checkProfile(profileIn)
+  const file = await storage.open(key)
+  let release = () => {}
+  try {
+    const layout = await readWavLayout(file)
+    release = await workerMemory().take(analysisMemoryBytes(layout.frames, layout.channels))
+    const decoded = await validateRecordingSource(file, profile, { layout, keepChannels: true })
+    return analyzeRecording(decoded, profile, options)
+  } finally {
+    await file.close()
+    release()
+    releaseTransformCaches(KEPT_TRANSFORM_LENGTH)
+  }
+}
 
 /**
  * Analyses one stored recording and saves its result, judged by the product's released mask when
@@ -27,16 +79,16 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
   const rec = (await getRecording(db, recordingId))!
   const unit = (await getUnitById(db, Number(rec.unit_id)))!
   const product = (await getProductById(db, Number(unit.product_id)))!
-  const bytes = await storage.read(rec.storage_key)
+  const text = rec.kind === 'sweep' ? null : (await storage.read(rec.storage_key)).toString('utf8')
   let analysis: AnalysisResult
   try {
     const ambientC = rec.ambient_c ?? undefined
     if (rec.kind === 'sweep') {
       const profile = rec.station_profile_id ? await getProfileVersion(db, Number(rec.station_profile_id)) : undefined
       if (!profile) throw new AnalysisInputError('invalid_profile', 'The recording has no station profile to read it with')
-      analysis = analyzeRecording(bytes, profile, { ambientC, sensitivityBandHz: product.sensitivityBandHz })
+      analysis = await analyzeStoredSweep(storage, rec.storage_key, profile, { ambientC, sensitivityBandHz: product.sensitivityBandHz })
     } else {
-      analysis = analyzeImpedanceTable(bytes.toString('utf8'), { ambientC })
+      analysis = analyzeImpedanceTable(text!, { ambientC })
     }
   } catch (err) {
     if (err instanceof AnalysisInputError) {
@@ -52,7 +104,7 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
   // never stored as a pass; one that shows a unit fault or a failed check is stored as a fail.
   return db.transaction(async (trx) => {
     const mask = await getActiveMask(trx, product.id, { lockProduct: true })
-    const refusal = rec.kind === 'impedance_table' ? tableRefusal(bytes.toString('utf8'), product, mask?.limits ?? null) : null
+    const refusal = rec.kind === 'impedance_table' ? tableRefusal(text!, product, mask?.limits ?? null) : null
     const verdict = refusal ? null : mask ? { maskId: mask.id, ...judge(analysis, mask.limits, product.ratedImpedanceOhm) } : null
     if (refusal || (verdict && onlyUndecided(verdict))) {
       const err = refusal ?? notMeasured(verdict!.undecided)

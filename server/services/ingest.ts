@@ -1,22 +1,22 @@
 import { DomainError } from '../../shared/utils/domain-error.ts'
 import type { ErrorCode } from '../../shared/utils/error-codes.ts'
-import { createHash } from 'node:crypto'
-import { readFile, rm } from 'node:fs/promises'
+import { rm } from 'node:fs/promises'
 import type { Knex } from 'knex'
 import type PgBoss from 'pg-boss'
-import { AnalysisInputError, parseImpedanceTable, validateRecording, type StationProfile } from '../analysis/index.ts'
+import { AnalysisInputError, parseImpedanceTable, validateRecordingSource, MAX_TABLE_LINES, type StationProfile } from '../analysis/index.ts'
 import { enqueueAnalysis } from '../queue/index.ts'
 import { findRecordingByContent, findRecordingOfOtherUnit, insertRecording } from '../repos/recordings.ts'
 import { getReturnRow } from '../repos/returns.ts'
 import { getUnitBySerial, resolveUnit } from '../repos/units.ts'
 import { newStorageKey, type RecordingStorage } from '../storage/recordings.ts'
+import { sha256OfFile, withFileSource } from '../storage/file-source.ts'
 import type { UploadFields } from '../../shared/utils/recordings.ts'
 import { isUniqueViolation } from '../repos/pg-errors.ts'
 import { getActiveMask } from '../repos/masks.ts'
 import { getProductById } from '../repos/products.ts'
 import { tableRefusal } from './analyze.ts'
 
-export const UPLOAD_REFUSAL_CODES = ['unsupported_file', 'station_required', 'unknown_return', 'return_closed', 'wrong_unit', 'already_uploaded', 'same_recording_other_unit'] as const satisfies readonly ErrorCode[]
+export const UPLOAD_REFUSAL_CODES = ['unsupported_file', 'too_large', 'station_required', 'unknown_return', 'return_closed', 'wrong_unit', 'already_uploaded', 'same_recording_other_unit'] as const satisfies readonly ErrorCode[]
 
 /** Why an upload was refused before anything was stored (the engine's refusals are AnalysisInputError). */
 export class UploadRefused extends DomainError<(typeof UPLOAD_REFUSAL_CODES)[number]> {}
@@ -41,6 +41,14 @@ export interface UploadOutcome {
   duplicate: boolean
 }
 
+/**
+ * Largest impedance table taken: room for MAX_TABLE_LINES lines of 200 characters. A table is read
+ * whole to be parsed; a sweep recording never is (it is validated block by block).
+ */
+export const MAX_TABLE_BYTES = 4 * 1024 * 1024
+/** Bytes read to tell a recording from a table. */
+const KIND_HEAD_BYTES = 4096
+
 const RIFF = Buffer.from('RIFF')
 const WAVE = Buffer.from('WAVE')
 
@@ -55,15 +63,38 @@ export function kindOf(bytes: Buffer): 'sweep' | 'impedance_table' {
   return 'impedance_table'
 }
 
-/** Engine validation of the bytes, before anything is stored. */
-export function validateUpload(bytes: Buffer, kind: 'sweep' | 'impedance_table', profile: StationProfile | null): void {
-  if (bytes.length === 0) throw new AnalysisInputError('empty_file', 'The file is empty')
-  if (kind === 'sweep') {
-    if (!profile) throw new UploadRefused('station_required', 'A sweep recording needs its station (its profile tells the channels and calibration)')
-    validateRecording(bytes, profile)
-  } else {
-    parseImpedanceTable(bytes.toString('utf8'))
-  }
+/** What the engine's validation found in an uploaded file: its kind, its size, and a table's bytes. */
+export interface CheckedUpload {
+  kind: 'sweep' | 'impedance_table'
+  size: number
+  /** The impedance table (small, read whole); null for a sweep recording, which is never read whole. */
+  table: Buffer | null
+}
+
+const asBuffer = (u: Uint8Array) => Buffer.from(u.buffer, u.byteOffset, u.byteLength)
+
+/**
+ * Engine validation of the uploaded file where it lies, before anything is stored: a sweep
+ * recording is read block by block with the same rules as the analysis (no copy of it in memory),
+ * a table is read whole and parsed.
+ * @throws UploadRefused or AnalysisInputError.
+ */
+export async function checkUploadFile(path: string, profile: StationProfile | null): Promise<CheckedUpload> {
+  return withFileSource(path, async (file) => {
+    if (file.size === 0) throw new AnalysisInputError('empty_file', 'The file is empty')
+    const kind = kindOf(asBuffer(await file.read(0, Math.min(file.size, KIND_HEAD_BYTES))))
+    if (kind === 'sweep') {
+      if (!profile) throw new UploadRefused('station_required', 'A sweep recording needs its station (its profile tells the channels and calibration)')
+      await validateRecordingSource(file, profile)
+      return { kind, size: file.size, table: null }
+    }
+    if (file.size > MAX_TABLE_BYTES) {
+      throw new UploadRefused('too_large', `An impedance table is at most ${MAX_TABLE_BYTES / 1048576} MB (${MAX_TABLE_LINES} lines); this file is ${file.size} bytes`)
+    }
+    const table = asBuffer(await file.read(0, file.size))
+    parseImpedanceTable(table.toString('utf8'))
+    return { kind, size: file.size, table }
+  })
 }
 
 /** Refuses, before anything is stored, an impedance table that does not cover the product's band under its released mask. */
@@ -81,10 +112,8 @@ async function refuseUncoveredTable(trx: Knex.Transaction, productId: number, by
  */
 export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: PgBoss, src: UploadSource): Promise<UploadOutcome> {
   try {
-    const bytes = await readFile(src.tempPath)
-    const kind = kindOf(bytes)
-    validateUpload(bytes, kind, src.station?.profile ?? null)
-    const sha256 = createHash('sha256').update(bytes).digest('hex')
+    const { kind, size, table } = await checkUploadFile(src.tempPath, src.station?.profile ?? null)
+    const sha256 = await sha256OfFile(src.tempPath)
     const { serial, product, lot, ambientC, note } = src.fields
     const key = newStorageKey(sha256, kind)
     let stored = false
@@ -95,7 +124,7 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
         if (src.returnId !== undefined && !ret) throw new UploadRefused('unknown_return', `No return ${src.returnId}`)
         if (ret && ret.status !== 'open') throw new UploadRefused('return_closed', `Return ${ret.id} is closed: nothing can be added to it`)
         const unit = await resolveUnit(trx, serial, product, lot)
-        if (kind === 'impedance_table') await refuseUncoveredTable(trx, Number(unit.product_id), bytes)
+        if (table) await refuseUncoveredTable(trx, Number(unit.product_id), table)
         if (ret && Number(unit.id) !== ret.unitId) {
           throw new UploadRefused('wrong_unit', `Return ${ret.id} is for unit ${ret.serial}, not ${serial}`)
         }
@@ -115,7 +144,7 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
           uploadedBy: src.userId,
           kind,
           originalName: src.originalName.slice(0, 255),
-          byteSize: bytes.length,
+          byteSize: size,
           sha256,
           storageKey: key,
           ambientC: ambientC ?? null,

@@ -2,6 +2,7 @@ import { DomainError } from '../../shared/utils/domain-error'
 import { randomUUID } from 'node:crypto'
 import { copyFile, mkdir, open, readFile, rename, rm } from 'node:fs/promises'
 import { dirname, join, resolve, sep } from 'node:path'
+import { openFileSource, type FileSource } from './file-source.ts'
 
 /**
  * Where raw recordings live. Kept behind this small interface so an S3-compatible store can
@@ -11,6 +12,8 @@ export interface RecordingStorage {
   /** Moves a finished temporary file into the store under `key`, durably (fsync) before returning. */
   putFile(key: string, fromPath: string): Promise<void>
   read(key: string): Promise<Buffer>
+  /** Opens a stored file to be read in pieces (a long recording is never loaded whole). */
+  open(key: string): Promise<FileSource>
   remove(key: string): Promise<void>
 }
 
@@ -90,6 +93,10 @@ export class DirectoryStorage implements RecordingStorage {
 
   read(key: string): Promise<Buffer> {
     return readFile(this.pathOf(key))
+  }
+
+  open(key: string): Promise<FileSource> {
+    return openFileSource(this.pathOf(key))
   }
 
   async remove(key: string): Promise<void> {

@@ -5,6 +5,7 @@ import type { UploadAccepted } from '../../../shared/types/api'
 
 export default defineEventHandler(async (event) => {
   const caller = await requireUserOrStation(event, 'technician', 'engineer')
+  holdUploadSlot(event)
   const { fields, file } = await readMultipartUpload(event)
   try {
     const input = parseInput(uploadFieldsSchema, fields)

@@ -8,6 +8,7 @@ import type { UploadAccepted } from '../../../../shared/types/api'
 export default defineEventHandler(async (event) => {
   const user = await requireRole(event, 'support', 'quality')
   const { id } = await getValidatedRouterParams(event, zodValidator(idParamSchema))
+  holdUploadSlot(event)
   const { fields, file } = await readMultipartUpload(event)
   try {
     const input = parseInput(returnRetestFieldsSchema, fields)
