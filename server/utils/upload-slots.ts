@@ -4,12 +4,13 @@ import { Capacity, positiveIntFromEnv } from './capacity'
 import { RETRY_AFTER_S } from './errors'
 
 /**
- * Uploads one server process receives and checks at once (CONETRAIL_UPLOAD_SLOTS, default 16).
- * Each holds at most about 5 MB while it is read and validated (the multipart parser's buffers,
- * one 1 MB block of the file and its decoded samples: the file itself streams to disk and is
- * validated block by block), so the slots bound the memory uploads can take, whatever their size.
+ * Uploads one server process receives and checks at once (CONETRAIL_UPLOAD_SLOTS, default 32: a
+ * plant of a few dozen stations is never refused). Each holds at most about 5 MB while it is read
+ * and validated (the multipart parser's buffers, one 1 MB block of the file and its decoded
+ * samples, 4 MB for 16-bit mono: the file itself streams to disk and is validated block by block),
+ * so the slots bound what uploads can take, whatever their size: about 170 MB for 32.
  */
-export const DEFAULT_UPLOAD_SLOTS = 16
+export const DEFAULT_UPLOAD_SLOTS = 32
 
 let slots: Capacity | undefined
 
