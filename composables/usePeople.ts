@@ -1,5 +1,6 @@
 import type { InvitationCreated, InvitationView, PersonView } from '#shared/types/people'
 import type { InviteInput, PersonPatch } from '#shared/utils/people'
+import { ROLE_LABELS } from '#shared/utils/roles'
 
 export function usePeople() {
   return useFetch('/api/people', { key: 'people', default: () => [] })
@@ -14,6 +15,8 @@ export function usePeopleAdmin() {
   const { busy, error, run: act } = useAction()
   /** The invitation just made, with its link: shown once. */
   const created = ref<InvitationCreated | null>(null)
+  /** The last role change the server made, said beside the person until the next change. */
+  const roleChanged = ref<{ id: number; text: string } | null>(null)
 
   async function run<T>(fn: () => Promise<T>): Promise<T | undefined> {
     let out: T | undefined
@@ -28,6 +31,7 @@ export function usePeopleAdmin() {
     error,
     busy,
     created,
+    roleChanged,
     invite: async (input: InviteInput) => {
       // Typed by hand: inferring the route's type through run() exceeds TypeScript's depth limit.
       const out = await run(() => $fetch<InvitationCreated>('/api/invitations', { method: 'POST', body: input }))
@@ -39,9 +43,12 @@ export function usePeopleAdmin() {
       const url: string = `/api/invitations/${id}`
       return run(() => $fetch<InvitationView>(url, { method: 'DELETE' }))
     },
-    change: (id: number, patch: PersonPatch) => {
+    change: async (id: number, patch: PersonPatch) => {
       const url: string = `/api/people/${id}`
-      return run(() => $fetch<PersonView>(url, { method: 'PATCH', body: patch }))
+      roleChanged.value = null
+      const out = await run(() => $fetch<PersonView>(url, { method: 'PATCH', body: patch }))
+      if (out && patch.role) roleChanged.value = { id, text: `Role changed to ${ROLE_LABELS[out.role]}` }
+      return out
     },
   }
 }

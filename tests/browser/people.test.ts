@@ -2,7 +2,7 @@ import { describe, expect, inject, it } from 'vitest'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import type { InvitationCreated } from '../../shared/types/people'
 import { signIn } from '../support/app'
-import { signInAs, useBrowser } from '../support/browser'
+import { hydrated, signInAs, useBrowser } from '../support/browser'
 import { unique } from '../support/db'
 
 const baseUrl = inject('baseUrl')
@@ -59,6 +59,54 @@ describe('an admin in the browser', () => {
     await admin.getByRole('button', { name: 'Clear' }).click()
     await expect.poll(async () => Number((await admin.getByTestId('audit-count').textContent())!.split(' ')[0])).toBeGreaterThan(1)
     await admin.close()
+  })
+})
+
+describe('changing someone\'s role', () => {
+  it('changes nothing until Save is pressed (an arrow key on the select is not a change); then says so and logs it', async () => {
+    const cookie = (await signIn(baseUrl, demoEmail('admin'), DEMO_PASSWORD)).cookie
+    const email = `${unique('role').toLowerCase()}@example.test`
+    const post = (path: string, body: unknown, withCookie: boolean) =>
+      fetch(new URL(path, baseUrl), { method: 'POST', headers: { 'content-type': 'application/json', ...(withCookie ? { cookie } : {}) }, body: JSON.stringify(body) })
+    const invited = (await (await post('/api/invitations', { email, role: 'support' }, true)).json()) as InvitationCreated
+    const token = new URL(invited.link).pathname.split('/').at(-1)!
+    expect((await post(`/api/invitations/accept/${token}`, { displayName: 'Role Person', password: 'a long browser password' }, false)).status).toBe(201)
+    const roleOnServer = async () => ((await (await fetch(new URL('/api/people', baseUrl), { headers: { cookie } })).json()) as { email: string; role: string }[]).find((p) => p.email === email)!.role
+    const roleChanges = async () => {
+      const res = await fetch(new URL(`/api/audit?action=user.role_change&subject=${encodeURIComponent(email)}`, baseUrl), { headers: { cookie } })
+      return ((await res.json()) as { total: number }).total
+    }
+
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'admin', '/people')
+    await hydrated(page)
+    const row = page.getByTestId(`person-${email}`)
+    const select = row.getByRole('combobox', { name: 'Role of Role Person' })
+    await select.focus()
+    await select.press('ArrowDown')
+    // The key moved the choice in the browser, and nothing else: no request, no note, the stored role stays.
+    await expect.poll(() => select.inputValue()).not.toBe('support')
+    await page.waitForLoadState('networkidle')
+    expect(await roleOnServer()).toBe('support')
+    expect(await roleChanges()).toBe(0)
+    expect(await row.getByTestId('role-changed').count()).toBe(0)
+    const pending = row.getByTestId('role-pending')
+    expect(await pending.getByRole('button', { name: 'Save role' }).isVisible()).toBe(true)
+    // "Keep" puts the stored role back.
+    await pending.getByRole('button', { name: 'Keep Support' }).click()
+    await expect.poll(() => select.inputValue()).toBe('support')
+    expect(await pending.count()).toBe(0)
+
+    await select.selectOption('quality')
+    expect(await roleOnServer()).toBe('support')
+    await pending.getByRole('button', { name: 'Save role' }).click()
+    const note = row.getByTestId('role-changed')
+    await expect.poll(() => note.textContent()).toContain('Role changed to Quality')
+    expect(await roleOnServer()).toBe('quality')
+    expect(await select.inputValue()).toBe('quality')
+    expect(await pending.count()).toBe(0)
+    expect(await roleChanges()).toBe(1)
+    await page.close()
   })
 })
 

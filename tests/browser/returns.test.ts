@@ -122,7 +122,7 @@ describe('a return from the search box to its disposition', () => {
     await page.getByTestId('return-curves').waitFor()
     await shot(page, 'return-compare')
 
-    // 5. Closing needs a disposition; then it is closed, in words.
+    // 5. Closing needs a disposition; it is final, so the form asks once more; then it is closed, in words.
     const close = page.getByTestId('return-close')
     await close.getByRole('button', { name: 'Close return' }).click()
     const err = page.getByTestId('return-close-error')
@@ -131,7 +131,19 @@ describe('a return from the search box to its disposition', () => {
     await close.getByLabel('Damaged in use').check()
     await close.locator('textarea[name=return-close-note]').fill('Cabinet dropped in transport by the customer.')
     await close.getByRole('button', { name: 'Close return' }).click()
+    const confirm = close.getByTestId('return-close-confirm')
+    expect(await confirm.textContent()).toContain('Close this return as Damaged in use?')
+    // "Keep open" sends nothing: the return stays open on the server.
+    const statusOnServer = async () => ((await page.request.get(new URL(`/api${returnPath}`, baseUrl).toString()).then((r) => r.json())) as { status: string }).status
+    await confirm.getByRole('button', { name: 'Keep open' }).click()
+    await expect.poll(() => confirm.count()).toBe(0)
+    expect(await statusOnServer()).toBe('open')
+    expect(await page.getByTestId('return-status-open').count()).toBeGreaterThan(0)
+    await close.getByRole('button', { name: 'Close return' }).click()
+    expect(await statusOnServer()).toBe('open')
+    await confirm.getByRole('button', { name: 'Yes, close return' }).click()
     await page.getByTestId('return-closing').waitFor()
+    expect(await statusOnServer()).toBe('closed')
     expect(await page.getByTestId('return-status-closed').textContent()).toContain('Damaged in use')
     expect(await page.getByTestId('return-close').count()).toBe(0)
     // Closed: nothing to add, no re-test form or driving note, and the empty list said in words.
