@@ -10,14 +10,15 @@
  * Its own stack: .data/bench-load, PostgreSQL on PGPORT + 4. BENCH_BUILD=0 reuses the last build.
  *
  * Large uploads: BENCH_UPLOAD_MB=64 sends recordings of just under that many MiB (BENCH_RATE,
- * 192 kHz by default, 3 channels, 32-bit PCM, the sweep as long as the size needs), BENCH_STATIONS
+ * 192 kHz by default, 3 channels, 32-bit PCM: the longest sweep the analysis reads at that rate, then
+ * silence up to the size), BENCH_STATIONS
  * (8 in this mode) at a time, BENCH_UPLOADS (3) per station, one right after the other's answer;
  * the server runs with CONETRAIL_MAX_UPLOAD_MB raised to fit them. Peak memory is the figure to read.
  */
 import { readFileSync, rmSync } from 'node:fs'
 import { resolve } from 'node:path'
 import knex from 'knex'
-import { DEFAULT_PROFILE, stationProfileSchema, type StationProfile } from '../server/analysis/index'
+import { ANALYSIS_TAIL_S, DEFAULT_PROFILE, MAX_ANALYSIS_FRAMES, stationProfileSchema, type StationProfile } from '../server/analysis/index'
 import { createProduct } from '../server/repos/products'
 import { createStation } from '../server/repos/stations'
 import { createMaskDraft, releaseMask } from '../server/repos/masks'
@@ -46,14 +47,23 @@ const PRODUCT = 'LOAD-6'
 /** Bytes per frame of the large recordings: 3 channels of 32-bit PCM. */
 const LARGE_FRAME_BYTES = 12
 const WAVE_HEADER_BYTES = 44
-/** Pre-silence and post-silence the generator puts around the sweep, s. */
-const LARGE_SILENCE_S = 0.05 + 0.3
+/** Pre-silence of the large mode's sweep, s. */
+const LARGE_PRE_SILENCE_S = 0.05
 
-/** The station profile of the large-upload mode: the demo profile with a sweep that fills UPLOAD_MB MiB at RATE. */
+/**
+ * The station profile of the large-upload mode: the demo profile with the longest sweep the analysis
+ * reads at RATE (MAX_ANALYSIS_FRAMES less pre-silence and tail: 4.9 s at 192 kHz), so each upload
+ * costs a worker the most one recording can.
+ */
 function largeProfile(): StationProfile {
+  const durationS = Math.floor((MAX_ANALYSIS_FRAMES / RATE - LARGE_PRE_SILENCE_S - ANALYSIS_TAIL_S) * 10) / 10
+  return stationProfileSchema.parse({ ...DEFAULT_PROFILE, sweep: { ...DEFAULT_PROFILE.sweep, durationS, preSilenceS: LARGE_PRE_SILENCE_S } })
+}
+
+/** Silence after the large mode's sweep that brings its file to just under UPLOAD_MB MiB, s. */
+function largePostSilenceS(profile: StationProfile): number {
   const frames = Math.floor((UPLOAD_MB * 1024 * 1024 - WAVE_HEADER_BYTES) / LARGE_FRAME_BYTES)
-  const durationS = Math.floor((frames / RATE - LARGE_SILENCE_S) * 10) / 10
-  return stationProfileSchema.parse({ ...DEFAULT_PROFILE, sweep: { ...DEFAULT_PROFILE.sweep, durationS, preSilenceS: 0.05 } })
+  return Math.floor((frames / RATE - LARGE_PRE_SILENCE_S - profile.sweep.durationS) * 10) / 10
 }
 
 /** A copy that differs in the least significant bits of its last samples: a new file each time (see bench-ingest). */
@@ -117,8 +127,9 @@ async function main() {
     let bases: Buffer[]
     if (UPLOAD_MB) {
       // One large recording (generating it takes tens of seconds); every upload is a distinct copy of it.
-      console.log(`generating one ${RATE / 1000} kHz, 3-channel, 32-bit recording of a ${profile.sweep.durationS} s sweep...`)
-      const big = generateRecording({ seed: SEED_BASE, profile, sampleRate: RATE, encoding: 'pcm32' })
+      const postSilenceS = largePostSilenceS(profile)
+      console.log(`generating one ${RATE / 1000} kHz, 3-channel, 32-bit recording of a ${profile.sweep.durationS} s sweep and ${postSilenceS} s after it...`)
+      const big = generateRecording({ seed: SEED_BASE, profile, sampleRate: RATE, encoding: 'pcm32', postSilenceS })
       console.log(`  ${(big.length / 1048576).toFixed(1)} MiB`)
       bases = stations.map(() => big)
     } else {

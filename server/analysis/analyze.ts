@@ -292,7 +292,7 @@ export function analyzeRecording(bytes: Uint8Array | ValidatedRecording, profile
   timings.validate = v.validationMs
   const fs = v.sampleRate
   const sweep = profile.sweep
-  const N = nextPowerOfTwo(v.frames)
+  const N = nextPowerOfTwo(v.analysisFrames)
   const { mic, drive, sense } = v.channels
   const R = profile.senseResistorOhm
   const stat = (role: ChannelRole): ChannelStats | undefined => v.stats.find((s) => s.role === role)

@@ -28,6 +28,7 @@ export const ANALYSIS_ERROR_CODES = [
   'table_out_of_range',
   'table_too_many_points',
   'table_band_too_narrow',
+  'recording_too_long',
   'not_measured',
 ] as const satisfies readonly ErrorCode[]
 

@@ -15,6 +15,10 @@ export { parseWavLayout, readWavLayout, decodeChannel, MAX_RECORDING_BYTES, type
 export {
   validateRecording,
   validateRecordingSource,
+  analysisFrames,
+  analysisFramesOf,
+  MAX_ANALYSIS_FRAMES,
+  ANALYSIS_TAIL_S,
   PROBE_FAULT_MIC_SNR_DB,
   VALIDATION_BLOCK_BYTES,
   MIN_SAMPLE_RATE_HZ,

@@ -47,6 +47,8 @@ export interface ChannelStats {
 export interface ValidatedRecording {
   sampleRate: number
   frames: number
+  /** The frames the analysis reads (the decoded channels' length): see analysisFrames. */
+  analysisFrames: number
   encoding: SampleEncoding
   bitsPerSample: number
   extensible: boolean
@@ -62,14 +64,42 @@ export interface ValidateOptions {
   allowClipped?: boolean
 }
 
+/**
+ * Most frames the analysis takes from one recording: 2^20, i.e. 5.46 s at 192 kHz or 21.8 s at
+ * 48 kHz (our limit). Its transforms are then 2^20 points long, which keeps a worker's peak near
+ * 300 MB (memory.ts); an end-of-line sweep lasts a few seconds.
+ */
+export const MAX_ANALYSIS_FRAMES = 2 ** 20
+/**
+ * What the analysis keeps after the sweep's end when a recording is longer than it takes: room for
+ * the unit's response to die away, over twice the engine's 0.2 s linear window (our choice).
+ */
+export const ANALYSIS_TAIL_S = 0.5
+
+/**
+ * Frames the analysis reads from a recording: all of them when they fit MAX_ANALYSIS_FRAMES;
+ * otherwise pre-silence, sweep and ANALYSIS_TAIL_S of what follows (the rest is silence to it).
+ */
+export function analysisFrames(frames: number, sampleRate: number, sweepEnd: number): number {
+  if (frames <= MAX_ANALYSIS_FRAMES) return frames
+  return Math.min(frames, sweepEnd + Math.round(ANALYSIS_TAIL_S * sampleRate))
+}
+
+/** analysisFrames for a recording's layout under a station profile (what a worker budgets its memory by). */
+export function analysisFramesOf(layout: Pick<WavLayout, 'frames' | 'sampleRate'>, profile: StationProfile): number {
+  const fs = layout.sampleRate
+  return analysisFrames(layout.frames, fs, Math.round(profile.sweep.preSilenceS * fs) + Math.round(profile.sweep.durationS * fs))
+}
+
 /** Bytes of a recording read at once when it is validated from a file (one piece in memory at a time). */
 export const VALIDATION_BLOCK_BYTES = 1024 * 1024
 
-/** Frames of the noise window (before the sweep, clear of its start) and of the sweep. */
+/** Frames of the noise window (before the sweep, clear of its start), of the sweep, and the end of what the analysis reads. */
 interface Windows {
   noiseEnd: number
   sweepStart: number
   sweepEnd: number
+  analysisEnd: number
 }
 
 /** Checks what the layout alone tells (channels, rate, length) and returns the sample windows. */
@@ -102,7 +132,14 @@ function checkLayout(layout: WavLayout, profile: StationProfile): Windows {
       `The recording holds ${(layout.frames / fs).toFixed(3)} s; the sweep needs ${(sweepEnd / fs).toFixed(3)} s (pre-silence + sweep).`,
     )
   }
-  return { noiseEnd: sweepStart - Math.round(NOISE_GUARD_S * fs), sweepStart, sweepEnd }
+  const analysisEnd = analysisFramesOf(layout, profile)
+  if (analysisEnd > MAX_ANALYSIS_FRAMES) {
+    throw new AnalysisInputError(
+      'recording_too_long',
+      `Pre-silence, sweep and ${ANALYSIS_TAIL_S} s after it take ${(analysisEnd / fs).toFixed(2)} s; at ${fs} Hz the analysis reads at most ${(MAX_ANALYSIS_FRAMES / fs).toFixed(2)} s: shorten the sweep or lower the sample rate.`,
+    )
+  }
+  return { noiseEnd: sweepStart - Math.round(NOISE_GUARD_S * fs), sweepStart, sweepEnd, analysisEnd }
 }
 
 /** Shortest pre-silence (frames) that gives a noise floor. */
@@ -164,16 +201,17 @@ class RecordingScan {
   ) {
     this.windows = checkLayout(layout, profile)
     this.scans = profile.fullScaleV.map((fsV) => new ChannelScan(CLIP_THRESHOLD * fsV, this.windows))
-    this.kept = keepChannels ? profile.channels.map(() => new Float64Array(layout.frames)) : null
+    this.kept = keepChannels ? profile.channels.map(() => new Float64Array(this.windows.analysisEnd)) : null
   }
 
-  /** The next piece of the data chunk (whole frames). */
+  /** The next piece of the data chunk (whole frames); every frame is checked, the analysed ones kept. */
   push(block: Uint8Array): void {
     const frames = Math.floor(block.byteLength / this.layout.blockAlign)
+    const keep = this.kept ? Math.max(0, Math.min(frames, this.windows.analysisEnd - this.frame)) : 0
     for (let c = 0; c < this.scans.length; c++) {
       let out: Float64Array
       let at: number
-      if (this.kept) {
+      if (this.kept && keep === frames) {
         out = this.kept[c]!
         at = this.frame
       } else {
@@ -183,6 +221,7 @@ class RecordingScan {
       }
       decodeFrames(block, this.layout, c, this.profile.fullScaleV[c]!, out, at)
       this.scans[c]!.feed(out, at, at + frames, this.frame)
+      if (this.kept && keep > 0 && keep < frames) this.kept[c]!.set(out.subarray(0, keep), this.frame)
     }
     this.frame += frames
   }
@@ -225,6 +264,7 @@ class RecordingScan {
     return {
       sampleRate: layout.sampleRate,
       frames: layout.frames,
+      analysisFrames: windows.analysisEnd,
       encoding: layout.encoding,
       bitsPerSample: layout.bitsPerSample,
       extensible: layout.extensible,

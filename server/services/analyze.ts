@@ -1,5 +1,6 @@
 import type { Knex } from 'knex'
 import {
+  analysisFramesOf,
   analysisMemoryBytes,
   analyzeImpedanceTable,
   analyzeRecording,
@@ -31,11 +32,12 @@ export type ProcessOutcome = 'done' | 'rejected' | 'skipped'
 
 /**
  * Memory the analyses of one worker process may hold at once (CONETRAIL_WORKER_MEMORY_MB, default
- * 512 MB), by the engine's estimate of each recording's peak (analysisMemoryBytes). A recording
+ * 256 MB), by the engine's estimate of each recording's peak (analysisMemoryBytes). A recording
  * waits until its share fits; one larger than the whole budget runs alone. A usual recording
- * (48 kHz, 1.35 s, 3 channels) needs about 13 MB, a 64 MB one at 192 kHz about 1.5 GB.
+ * (48 kHz, 1.35 s, 3 channels) needs about 13 MB; the longest the analysis reads
+ * (MAX_ANALYSIS_FRAMES, 2^20 frames) about 210 MB, so it runs alone and a worker stays under 400 MB.
  */
-export const DEFAULT_WORKER_MEMORY_MB = 512
+export const DEFAULT_WORKER_MEMORY_MB = 256
 /** Transforms up to this length keep their plans between recordings (a usual recording's are 65 536 long; longer ones hold tens of MB each). */
 const KEPT_TRANSFORM_LENGTH = 1 << 18
 
@@ -57,7 +59,7 @@ async function analyzeStoredSweep(storage: RecordingStorage, key: string, profil
   let release = () => {}
   try {
     const layout = await readWavLayout(file)
-    release = await workerMemory().take(analysisMemoryBytes(layout.frames, layout.channels))
+    release = await workerMemory().take(analysisMemoryBytes(analysisFramesOf(layout, profile), layout.channels))
     const decoded = await validateRecordingSource(file, profile, { layout, keepChannels: true })
     return analyzeRecording(decoded, profile, options)
   } finally {

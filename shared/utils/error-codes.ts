@@ -106,6 +106,7 @@ export const ERROR_CODES = {
   table_out_of_range: { status: 422, message: 'The impedance table holds a value no measurement can give' },
   table_too_many_points: { status: 422, message: 'The impedance table has too many points' },
   table_band_too_narrow: { status: 422, message: 'The impedance table does not cover the product\'s band' },
+  recording_too_long: { status: 422, message: 'The sweep is longer than the analysis reads at this sample rate' },
   not_measured: { status: 422, message: 'The recording could not measure every check: measure again' },
   invalid_limits: { status: 422, message: 'The limits are not valid' },
   too_few_points: { status: 422, message: 'Too few values for this statistic' },
