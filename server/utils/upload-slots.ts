@@ -4,13 +4,14 @@ import { Capacity, positiveIntFromEnv } from './capacity'
 import { RETRY_AFTER_S } from './errors'
 
 /**
- * Uploads one server process receives and checks at once (CONETRAIL_UPLOAD_SLOTS, default 32: a
- * plant of a few dozen stations is never refused). Each holds at most about 5 MB while it is read
+ * Uploads one server process receives and checks at once (CONETRAIL_UPLOAD_SLOTS, default 64: a
+ * plant whose stations, up to 64, all send at once is never refused). Each holds at most about 5 MB while it is read
  * and validated (the multipart parser's buffers, one 1 MB block of the file and its decoded
  * samples, 4 MB for 16-bit mono: the file itself streams to disk and is validated block by block),
- * so the slots bound what uploads can take, whatever their size: about 170 MB for 32.
+ * so the slots bound what uploads can take, whatever their size: at most about 330 MB for 64
+ * (about 2 MB each for the usual 3-channel 24-bit recording).
  */
-export const DEFAULT_UPLOAD_SLOTS = 32
+export const DEFAULT_UPLOAD_SLOTS = 64
 
 let slots: Capacity | undefined
 
