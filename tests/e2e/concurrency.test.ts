@@ -22,10 +22,12 @@ afterAll(async () => {
 
 describe('many stations at once', () => {
   it(`takes ${UPLOADS} concurrent uploads and ends each done, with exactly one result each`, async () => {
+    // The files first: making them blocks this process for seconds, and a keep-alive connection
+    // left idle meanwhile (the sign-in's) may be closed by the server just as an upload reuses it.
+    const files = Array.from({ length: UPLOADS }, (_, i) => generateRecording({ seed: 1000 + i }))
     const tech = { cookie: (await signIn(host, demoEmail('technician'), DEMO_PASSWORD)).cookie }
     const product = await makeProduct(unique('P'), 6)
     const stations = await Promise.all([makeStation(), makeStation(), makeStation()])
-    const files = Array.from({ length: UPLOADS }, (_, i) => generateRecording({ seed: 1000 + i }))
     const serials = files.map(() => unique('CC'))
 
     const answers = await Promise.all(
