@@ -2,7 +2,7 @@ import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analy
 import { RATED_IMPEDANCE_MIN_FRACTION } from '../analysis/index.ts'
 import { CHECK_LABELS, SCALAR_LIMIT_NAMES, figureValue, limitAtHz, type MaskLimits } from '../../shared/utils/mask.ts'
 import type { CheckView } from '../../shared/types/api.ts'
-import type { Verdict } from '../../shared/utils/verdict.ts'
+import type { RetestReason, Verdict } from '../../shared/utils/verdict.ts'
 
 /** One limit applied to one figure or curve (glossary: check). */
 export type Check = CheckView
@@ -17,6 +17,10 @@ export interface Judgement {
    * channels can give one). Never a pass: with no failed check the result is undecided.
    */
   undecided: string[]
+  /** Why the verdict is `retest` (null otherwise). */
+  retestReason: RetestReason | null
+  /** Things the station should look at that did not change the verdict (e.g. a level 1–6 dB off its profile). */
+  warnings: string[]
 }
 
 export interface Judgeable {
@@ -123,7 +127,7 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
     if (c) checks.push(c)
     else missing(name)
   }
-  return { verdict: checks.every((c) => c.pass) ? 'pass' : 'fail', checks, unmeasured, undecided }
+  return { verdict: checks.every((c) => c.pass) ? 'pass' : 'fail', checks, unmeasured, undecided, retestReason: null, warnings: [] }
 }
 
 /** Whether a judgement failed only because figures were missing: no measured check failed, the file could not decide. */

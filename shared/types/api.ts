@@ -44,8 +44,18 @@ export interface CheckView {
   low: number | null
   high: number | null
   unit: string
+  /** False also when the check could not decide (see `undecided`): a check passes only when decided inside its limits. */
   pass: boolean
   atHz?: number
+  /**
+   * The check could not decide: its figure is missing, or its uncertainty straddles the limit, or a
+   * disturbance of the recording (see the result's retest reason) may have caused the excess.
+   */
+  undecided?: boolean
+  /** ± of the figure (95 % coverage), in the check's unit, where noise limits it. */
+  uncertainty?: number
+  /** The figure lies below the noise floor: `value` is the floor, the true figure is lower. */
+  below?: boolean
 }
 
 /** POST /api/recordings: 202 for a new upload, 200 for the same file again. */
