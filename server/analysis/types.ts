@@ -41,6 +41,41 @@ export interface AnalysisParameters extends ResultFigures {
   effectiveImpedanceOhm: number | null
   snrDb: PerChannel<number | null>
   peakDbfs: PerChannel<number | null>
+  /*
+   * What a real line adds to a recording, and the figures' uncertainties. They live among the
+   * parameters so they are stored with them and a later judgement (a mask released afterwards) sees
+   * them. Absent in results made before they existed.
+   */
+  /** Played level over the profile's, dB (drive plus sense: the amplifier's output). */
+  levelOffsetDb?: number | null
+  /** ± of the sensitivity, dB (k = 2), from the noise in its band. */
+  sensitivityUncertaintyDb?: number | null
+  /** Median level of the rub-and-buzz blocks: the residual's noise floor, dB. */
+  rubBuzzFloorDb?: number | null
+  /** Per point of the frequency grid: ± of the response, dB (k = 2). */
+  splUncertaintyDb?: (number | null)[] | null
+  /**
+   * Per point of the frequency grid: the THD below which a reading is not told apart from the noise
+   * (where `curves.thdPct` is null but this is not, the THD is below this bound).
+   */
+  thdFloorPct?: (number | null)[] | null
+  disturbances?: Disturbance[]
+  /** Things the station should look at that do not change the verdict. */
+  warnings?: string[]
+}
+
+/**
+ * Something the recording shows that the unit did not cause. `retest`: by itself it keeps the
+ * recording from deciding (a knock loud enough to read as rub and buzz, a level far from the profile).
+ * `fromHz`/`toHz`: the part of the sweep it disturbed.
+ */
+export interface Disturbance {
+  code: 'hum' | 'noise' | 'transient' | 'level'
+  note: string
+  retest: boolean
+  atS?: number
+  fromHz?: number
+  toHz?: number
 }
 
 export interface AnalysisCurves {

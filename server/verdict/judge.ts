@@ -1,6 +1,8 @@
-import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analysis/index.ts'
+import type { AnalysisCurves, AnalysisFlags, AnalysisParameters, Disturbance } from '../analysis/index.ts'
 import { RATED_IMPEDANCE_MIN_FRACTION } from '../analysis/index.ts'
 import { CHECK_LABELS, SCALAR_LIMIT_NAMES, figureValue, limitAtHz, type MaskLimits } from '../../shared/utils/mask.ts'
+import { COVERAGE_K, THD_CLEAR_RATIO, levelUncertaintyDb } from '../analysis/noise-floor.ts'
+import { EVENT_MARGIN_DB } from '../analysis/transient.ts'
 import type { CheckView } from '../../shared/types/api.ts'
 import type { RetestReason, Verdict } from '../../shared/utils/verdict.ts'
 
@@ -26,13 +28,26 @@ export interface Judgement {
 export interface Judgeable {
   kind: 'sweep' | 'impedance_table'
   parameters: Pick<AnalysisParameters, 'reOhm' | 're20Ohm' | 'fsHz' | 'qts' | 'sensitivityDb' | 'thdMaxPct' | 'rubBuzzDb' | 'zminOhm' | 'effectiveImpedanceOhm'> &
-    Partial<Pick<AnalysisParameters, 'peakDbfs'>>
+    Partial<
+      Pick<
+        AnalysisParameters,
+        'peakDbfs' | 'levelOffsetDb' | 'sensitivityUncertaintyDb' | 'rubBuzzFloorDb' | 'splUncertaintyDb' | 'thdFloorPct' | 'disturbances' | 'warnings'
+      >
+    >
   flags: Pick<AnalysisFlags, 'polarity' | 'openCoil' | 'shortedCoil' | 'noResonance'>
   curves: Pick<AnalysisCurves, 'freqHz' | 'splDb' | 'impedanceOhm'> & Partial<Pick<AnalysisCurves, 'thdPct'>>
 }
 
 /** Checks read from sound at the microphone. */
 const ACOUSTIC_CHECKS: ReadonlySet<string> = new Set(['polarity', 'sensitivityDb', 'thdMaxPct', 'rubBuzzDb', 'splDb'])
+
+/**
+ * A played level this far from the profile's makes the recording undecidable (`retest`, `level`);
+ * from LEVEL_WARN_DB on, the result carries a warning. A doubling (6.02 dB) is still inside: the
+ * figures are read relative to the drive, and level changes of ±6 dB leave them unchanged.
+ */
+export const LEVEL_RETEST_DB = 6.5
+export const LEVEL_WARN_DB = 1
 
 /**
  * Whether a file of this kind, with these channels, can give the check's figure: an impedance table
@@ -47,12 +62,47 @@ export function canMeasure(r: Pick<Judgeable, 'kind' | 'parameters'>, check: str
   return acoustic ? peaks.mic != null : peaks.sense != null && (check !== 'coil' || peaks.drive != null)
 }
 
-function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>): Check | null {
+/** How a figure with its uncertainty lies against a limit: inside, outside, or straddling it. */
+type Standing = 'inside' | 'outside' | 'straddles'
+
+function stand(value: number, u: number, low: number | null, high: number | null): Standing {
+  if ((low !== null && value + u < low) || (high !== null && value - u > high)) return 'outside'
+  if ((low === null || value - u >= low) && (high === null || value + u <= high)) return 'inside'
+  return 'straddles'
+}
+
+/** Why a check could not decide, in the order a retest reason is chosen. */
+type Cause = 'transient' | 'noise' | 'missing'
+
+interface Decided {
+  check: Check
+  cause: Cause | null
+}
+
+function decided(check: Omit<Check, 'pass'>, standing: Standing, cause: Cause = 'noise'): Decided {
+  if (standing === 'straddles') return { check: { ...check, pass: false, undecided: true }, cause }
+  return { check: { ...check, pass: standing === 'inside' }, cause: null }
+}
+
+function inSpan(f: number, spans: readonly Disturbance[]): boolean {
+  return spans.some((d) => d.fromHz !== undefined && d.toHz !== undefined && f >= d.fromHz && f <= d.toHz)
+}
+
+/**
+ * A curve against its limit curve, point by point with each point's uncertainty: outside at a point
+ * decides a fail, unless a transient disturbed that part of the sweep; straddling anywhere (and
+ * outside nowhere) cannot decide. The value is the worst excess over the limit (≤ 0 inside).
+ */
+function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>): Decided | null {
   const values = r.curves[name]
   if (!values) return null
-  let worst = 0
+  const unc = name === 'splDb' ? r.parameters.splUncertaintyDb : null
+  const transients = (r.parameters.disturbances ?? []).filter((d) => d.code === 'transient')
+  let worst = Number.NEGATIVE_INFINITY
   let atHz: number | undefined
   let compared = 0
+  let outside = false
+  let cause: Cause | null = null
   r.curves.freqHz.forEach((f, i) => {
     const v = values[i]
     if (v == null) return
@@ -60,41 +110,132 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
     const hi = limitAtHz(limit.freqHz, limit.high, f)
     if (lo === null && hi === null) return
     compared++
-    const excess = Math.max(lo !== null ? lo - v : 0, hi !== null ? v - hi : 0)
+    const u = unc?.[i] ?? 0
+    const excess = Math.max(lo !== null ? lo - v : Number.NEGATIVE_INFINITY, hi !== null ? v - hi : Number.NEGATIVE_INFINITY)
     if (excess > worst) {
       worst = excess
       atHz = f
     }
+    const s = stand(v, u, lo, hi)
+    if (s === 'inside') return
+    if (inSpan(f, transients)) cause = 'transient'
+    else if (s === 'outside') outside = true
+    else cause ??= 'noise'
   })
   if (compared === 0) return null
-  return { name, value: round(worst), low: null, high: 0, unit: CHECK_LABELS[name]!.unit, pass: worst <= 0, ...(atHz ? { atHz: round(atHz) } : {}) }
+  const check = { name, value: round(Math.max(worst, 0)), low: null, high: 0, unit: CHECK_LABELS[name]!.unit, ...(atHz ? { atHz: round(atHz) } : {}) }
+  if (outside) return { check: { ...check, pass: false }, cause: null }
+  if (cause) return { check: { ...check, pass: false, undecided: true }, cause }
+  return { check: { ...check, pass: true }, cause: null }
+}
+
+/**
+ * The THD maximum in the mask's band, from the THD curve and its floor: a reading clear of the noise
+ * counts with its uncertainty (k = 2 times the noise's THD); a point below the floor counts with the
+ * floor as its bound. Null when the result has no floor curve (made before it existed): the plain
+ * figure decides then.
+ */
+function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | null }, band: readonly [number, number]): Decided | null {
+  const thd = r.curves.thdPct
+  const floor = r.parameters.thdFloorPct
+  if (!thd || !floor) return null
+  const transients = (r.parameters.disturbances ?? []).filter((d) => d.code === 'transient')
+  let maxClear: { v: number; u: number; f: number } | null = null
+  let maxBelow: { v: number; f: number } | null = null
+  let outside = false
+  let cause: Cause | null = null
+  r.curves.freqHz.forEach((f, i) => {
+    if (f < band[0] || f > band[1]) return
+    const v = thd[i]
+    const fl = floor[i]
+    if (v != null) {
+      const u = fl != null ? (COVERAGE_K * fl) / THD_CLEAR_RATIO : 0
+      if (!maxClear || v > maxClear.v) maxClear = { v, u, f }
+      const s = stand(v, u, lim.low, lim.high)
+      if (s === 'inside') return
+      if (inSpan(f, transients)) cause = 'transient'
+      else if (s === 'outside') outside = true
+      else cause ??= 'noise'
+    } else if (fl != null) {
+      if (!maxBelow || fl > maxBelow.v) maxBelow = { v: fl, f }
+      if (lim.high !== null && fl > lim.high) cause ??= inSpan(f, transients) ? 'transient' : 'noise'
+    }
+  })
+  const clear = maxClear as { v: number; u: number; f: number } | null
+  const below = maxBelow as { v: number; f: number } | null
+  if (!clear && !below) return null
+  const shown = clear ?? { v: below!.v, u: 0, f: below!.f }
+  const check: Omit<Check, 'pass'> = {
+    name: 'thdMaxPct',
+    value: round(shown.v),
+    low: lim.low,
+    high: lim.high,
+    unit: CHECK_LABELS.thdMaxPct!.unit,
+    atHz: round(shown.f),
+    ...(clear ? { uncertainty: round(clear.u) } : { below: true }),
+  }
+  if (outside) return { check: { ...check, pass: false }, cause: null }
+  if (cause) return { check: { ...check, pass: false, undecided: true }, cause }
+  return { check: { ...check, pass: true }, cause: null }
+}
+
+/** Rub and buzz against its limit: a level within EVENT_MARGIN_DB of the residual's floor is reported as below that bound. */
+function rubBuzzCheck(r: Judgeable, value: number, lim: { low: number | null; high: number | null }): Decided {
+  const floor = r.parameters.rubBuzzFloorDb
+  const base = { name: 'rubBuzzDb', low: lim.low, high: lim.high, unit: CHECK_LABELS.rubBuzzDb!.unit }
+  if (floor == null) return decided({ ...base, value: round(value) }, stand(value, 0, lim.low, lim.high))
+  const bound = floor + EVENT_MARGIN_DB
+  if (value <= bound) return decided({ ...base, value: round(bound), below: true }, stand(bound, 0, null, lim.high) === 'inside' ? 'inside' : 'straddles')
+  const u = levelUncertaintyDb(Math.pow(10, value / 20), Math.pow(10, floor / 20)) ?? 0
+  return decided({ ...base, value: round(value), uncertainty: round(u) }, stand(value, u, lim.low, lim.high))
 }
 
 function round(x: number, digits = 4): number {
   return Number(x.toPrecision(digits + 2))
 }
 
+/** The retest reason a set of causes and disturbances gives, most urgent first (RETEST_REASONS' order). */
+function retestReason(causes: readonly Cause[], disturbances: readonly Disturbance[], levelOff: boolean): RetestReason | null {
+  if (levelOff) return 'level'
+  if (disturbances.some((d) => d.code === 'transient' && d.retest) || causes.includes('transient')) return 'transient'
+  if (causes.includes('noise')) return disturbances.some((d) => d.code === 'hum') ? 'hum' : 'noise'
+  if (causes.includes('missing')) return 'undecided'
+  return null
+}
+
 /**
  * Applies a mask to one result. Fixed checks first (coil continuity, a resonance where a driver
  * must have one, polarity, the rated-impedance rule of IEC 60268-5), then the scalar limits, then
  * the curves. A result passes only when every check its kind of file can measure was measured and
- * passed: a check whose figure is missing fails without a value and is listed in `undecided` (the
- * analysis service refuses such a recording before it is stored unless a measured check failed); a
- * check the file cannot show by its nature, or cannot show because of a unit fault it found (an
- * open or shorted coil, no resonance), is listed in `unmeasured` and does not decide.
+ * decided inside its limits. It fails on a unit fault the file shows (open or shorted coil, no
+ * resonance) or a check decided outside its limits. Otherwise it ends `retest` when a check could not
+ * decide (its figure missing, its uncertainty straddling the limit, a transient over the part that
+ * failed) or the recording itself cannot decide (a played level far from the profile, a knock loud
+ * enough to read as rub and buzz). A check the file cannot show by its nature, or because of a unit
+ * fault it found, is listed in `unmeasured` and does not decide.
  */
 export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: number): Judgement {
   const checks: Check[] = []
   const unmeasured: string[] = []
   const undecided: string[] = []
+  const causes: Cause[] = []
   const { parameters: p, flags } = r
+  const disturbances = p.disturbances ?? []
+  const warnings = [...(p.warnings ?? [])]
+  const add = (d: Decided | null) => {
+    if (!d) return
+    checks.push(d.check)
+    if (d.cause) {
+      causes.push(d.cause)
+      undecided.push(d.check.name)
+    }
+  }
   // A unit fault the file shows decides the verdict, and explains the figures it leaves missing.
   const unitFault = flags.openCoil || flags.shortedCoil || flags.noResonance === true
-  // A figure this file should have given but did not: a failing check without a value, and undecided.
+  // A figure this file should have given but did not: a check without a value that cannot decide.
   const missing = (name: string, low: number | null = null, high: number | null = null) => {
     if (unitFault || !canMeasure(r, name)) return void unmeasured.push(name)
-    undecided.push(name)
-    checks.push({ name, value: null, low, high, unit: CHECK_LABELS[name]?.unit ?? '', pass: false })
+    add({ check: { name, value: null, low, high, unit: CHECK_LABELS[name]?.unit ?? '', pass: false, undecided: true }, cause: 'missing' })
   }
 
   if (canMeasure(r, 'coil')) checks.push({ name: 'coil', value: p.effectiveImpedanceOhm, low: null, high: null, unit: 'Ω', pass: !flags.openCoil && !flags.shortedCoil })
@@ -112,30 +253,47 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
   for (const name of SCALAR_LIMIT_NAMES) {
     const lim = limits.scalars[name]
     if (!lim) continue
+    const band = name === 'thdMaxPct' && limits.thdBandHz ? thdBandCheck(r, lim, limits.thdBandHz) : null
+    if (band) {
+      add(band)
+      continue
+    }
     const value = figureValue(r, name, limits.thdBandHz)
     if (value === null || !Number.isFinite(value)) {
       missing(name, lim.low, lim.high)
       continue
     }
-    const pass = (lim.low === null || value >= lim.low) && (lim.high === null || value <= lim.high)
-    checks.push({ name, value: round(value), low: lim.low, high: lim.high, unit: CHECK_LABELS[name]!.unit, pass })
+    if (name === 'rubBuzzDb') {
+      add(rubBuzzCheck(r, value, lim))
+      continue
+    }
+    const u = name === 'sensitivityDb' ? (p.sensitivityUncertaintyDb ?? 0) : 0
+    add(decided({ name, value: round(value), low: lim.low, high: lim.high, unit: CHECK_LABELS[name]!.unit, ...(u > 0 ? { uncertainty: round(u) } : {}) }, stand(value, u, lim.low, lim.high)))
   }
   for (const name of ['splDb', 'impedanceOhm'] as const) {
     const lim = limits.curves[name]
     if (!lim) continue
     const c = curveCheck(name, r, lim)
-    if (c) checks.push(c)
+    if (c) add(c)
     else missing(name)
   }
-  return { verdict: checks.every((c) => c.pass) ? 'pass' : 'fail', checks, unmeasured, undecided, retestReason: null, warnings: [] }
+  const levelOffset = p.levelOffsetDb ?? null
+  const levelOff = levelOffset !== null && Math.abs(levelOffset) > LEVEL_RETEST_DB
+  if (levelOffset !== null && Math.abs(levelOffset) > LEVEL_WARN_DB) {
+    warnings.push(`The sweep was played ${Math.abs(levelOffset).toFixed(1)} dB ${levelOffset > 0 ? 'above' : 'below'} the station profile's level: check the amplifier gain and the profile.`)
+  }
+  const decidedFail = unitFault || checks.some((c) => !c.pass && !c.undecided)
+  const reason = unitFault ? null : levelOff ? 'level' : decidedFail ? null : retestReason(causes, disturbances, false)
+  const verdict = unitFault || (decidedFail && !levelOff) ? 'fail' : reason ? 'retest' : 'pass'
+  return { verdict, checks, unmeasured, undecided, retestReason: verdict === 'retest' ? reason : null, warnings }
 }
 
-/** Whether a judgement failed only because figures were missing: no measured check failed, the file could not decide. */
+/** Whether a judgement could not decide only because figures were missing: no measured check failed. */
 export function onlyUndecided(j: Pick<Judgement, 'checks' | 'undecided'>): boolean {
   return j.undecided.length > 0 && j.checks.every((c) => c.pass || j.undecided.includes(c.name))
 }
 
 /** The names of the checks a judgement failed, in the order the judge applied them. */
 export function failedCheckNames(j: Judgement): string[] {
-  return j.checks.filter((c) => !c.pass).map((c) => c.name)
+  return j.checks.filter((c) => !c.pass && !c.undecided).map((c) => c.name)
 }

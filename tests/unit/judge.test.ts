@@ -73,11 +73,12 @@ describe('checks a file could not measure', () => {
     curves: { freqHz: result.curves.freqHz, splDb: null, impedanceOhm: null },
   })
 
-  it('fails a table that measured nothing, each missing figure a failing check without a value', () => {
+  it('never passes a table that measured nothing: each missing figure a check without a value that cannot decide', () => {
     const j = judge(table({ reOhm: null, fsHz: null, qts: null, zminOhm: null }), limits, 8)
-    expect(j.verdict).toBe('fail')
+    expect(j.verdict).toBe('retest')
+    expect(j.retestReason).toBe('undecided')
     expect(j.undecided).toEqual(['ratedImpedance', 're20Ohm', 'fsHz', 'qts'])
-    expect(j.checks.filter((c) => !c.pass)).toEqual(j.undecided.map((name) => expect.objectContaining({ name, value: null, pass: false })))
+    expect(j.checks.filter((c) => !c.pass)).toEqual(j.undecided.map((name) => expect.objectContaining({ name, value: null, pass: false, undecided: true })))
     expect(onlyUndecided(j)).toBe(true)
   })
 
@@ -95,10 +96,11 @@ describe('checks a file could not measure', () => {
     expect(failedCheckNames(judge(table({ reOhm: null, fsHz: null, qts: null, zminOhm: null }, { openCoil: true }), limits, 8))).toEqual(['coil'])
   })
 
-  it('fails a sweep that could not read Fs, but not for what a channel it lacks cannot show', () => {
+  it('sends a sweep that could not read Fs to a retest, but not for what a channel it lacks cannot show', () => {
     const j = judge({ ...result, parameters: { ...result.parameters, fsHz: null } }, limits, 8)
     expect(j.undecided).toEqual(['fsHz'])
-    expect(j.verdict).toBe('fail')
+    expect(j.verdict).toBe('retest')
+    expect(j.retestReason).toBe('undecided')
     // A station with a microphone and no current channel: the electrical checks are not its to give.
     const micOnly: Judgeable = { ...result, parameters: { ...result.parameters, reOhm: null, fsHz: null, qts: null, zminOhm: null, peakDbfs: { mic: -12, drive: null, sense: null } } }
     expect(canMeasure(micOnly, 'fsHz')).toBe(false)
