@@ -100,6 +100,33 @@ function bestBetween(x: Float64Array, spans: readonly QuietSpan[], fs: number, l
   return best
 }
 
+/** Golden-section search for the fitted power's peak between lo and hi, down to FINE_STEP_HZ. */
+function refine(x: Float64Array, spans: readonly QuietSpan[], fs: number, lo: number, hi: number): number {
+  const g = (Math.sqrt(5) - 1) / 2
+  let a = lo
+  let b = hi
+  let c = b - g * (b - a)
+  let d = a + g * (b - a)
+  let pc = fitAt(x, spans, c, fs).power
+  let pd = fitAt(x, spans, d, fs).power
+  while (b - a > FINE_STEP_HZ) {
+    if (pc > pd) {
+      b = d
+      d = c
+      pd = pc
+      c = b - g * (b - a)
+      pc = fitAt(x, spans, c, fs).power
+    } else {
+      a = c
+      c = d
+      pc = pd
+      d = a + g * (b - a)
+      pd = fitAt(x, spans, d, fs).power
+    }
+  }
+  return (a + b) / 2
+}
+
 /**
  * The cheap test run on every channel first: the fundamental and 3rd harmonic at the nominal
  * frequencies over at most PRETEST_S of the longest quiet span, short enough that a mains
@@ -136,10 +163,10 @@ export function findHum(x: Float64Array, spans: readonly QuietSpan[], fs: number
     if (coarse.power > HUM_DETECT_POWER_RATIO * chance && (!best || coarse.power > best.power)) best = coarse
   }
   if (!best) return null
-  const fine = bestBetween(x, usable, fs, best.f0 - COARSE_STEP_HZ, best.f0 + COARSE_STEP_HZ, FINE_STEP_HZ)
-  const { lines } = fitAt(x, usable, fine.f0, fs)
+  const f0 = refine(x, usable, fs, best.f0 - COARSE_STEP_HZ, best.f0 + COARSE_STEP_HZ)
+  const { lines } = fitAt(x, usable, f0, fs)
   const rms = Math.sqrt(lines.reduce((a, l) => a + (l.a * l.a + l.b * l.b) / 2, 0))
-  return { f0Hz: fine.f0, lines, rms }
+  return { f0Hz: f0, lines, rms }
 }
 
 /** Subtracts a fitted hum from samples [0, end) of the channel, in place. */
