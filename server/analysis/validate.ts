@@ -154,6 +154,9 @@ class ChannelScan {
   nonFiniteAt = -1
   noiseSum = 0
   sweepSum = 0
+  /** Plain sums of the same windows: their means are the channel's DC, left out of the RMS figures. */
+  noiseLin = 0
+  sweepLin = 0
 
   constructor(
     private readonly clipLevel: number,
@@ -164,7 +167,7 @@ class ChannelScan {
   feed(x: Float64Array, from: number, to: number, frame0: number): void {
     const { noiseEnd, sweepStart, sweepEnd } = this.w
     const clipLevel = this.clipLevel
-    let { peak, run, clipped, noiseSum, sweepSum } = this
+    let { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin } = this
     for (let i = from, f = frame0; i < to; i++, f++) {
       const v = x[i]!
       if (!Number.isFinite(v)) {
@@ -176,10 +179,16 @@ class ChannelScan {
       if (a >= clipLevel) {
         if (++run >= CLIP_RUN_SAMPLES) clipped = true
       } else run = 0
-      if (f < noiseEnd) noiseSum += v * v
-      if (f >= sweepStart && f < sweepEnd) sweepSum += v * v
+      if (f < noiseEnd) {
+        noiseSum += v * v
+        noiseLin += v
+      }
+      if (f >= sweepStart && f < sweepEnd) {
+        sweepSum += v * v
+        sweepLin += v
+      }
     }
-    Object.assign(this, { peak, run, clipped, noiseSum, sweepSum })
+    Object.assign(this, { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin })
   }
 }
 
@@ -240,8 +249,12 @@ class RecordingScan {
     const stats = this.scans.map((scan, c): ChannelStats => {
       const fsV = profile.fullScaleV[c]!
       const sweepFrames = windows.sweepEnd - windows.sweepStart
-      const sweepRms = sweepFrames > 0 ? Math.sqrt(scan.sweepSum / sweepFrames) : 0
-      const noiseRms = windows.noiseEnd > MIN_NOISE_FRAMES ? Math.sqrt(scan.noiseSum / windows.noiseEnd) : null
+      // RMS about the channel's DC (an interface's offset is not signal): the pre-silence's mean,
+      // or the sweep's own without a pre-silence.
+      const hasNoise = windows.noiseEnd > MIN_NOISE_FRAMES
+      const dc = hasNoise ? scan.noiseLin / windows.noiseEnd : sweepFrames > 0 ? scan.sweepLin / sweepFrames : 0
+      const sweepRms = sweepFrames > 0 ? Math.sqrt(Math.max(0, (scan.sweepSum - 2 * dc * scan.sweepLin) / sweepFrames + dc * dc)) : 0
+      const noiseRms = hasNoise ? Math.sqrt(Math.max(0, scan.noiseSum / windows.noiseEnd - dc * dc)) : null
       let snrDb: number | null = null
       if (noiseRms !== null) {
         snrDb = noiseRms > 0 ? Math.min(SNR_CAP_DB, 20 * Math.log10(sweepRms / noiseRms)) : SNR_CAP_DB
