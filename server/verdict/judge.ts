@@ -179,13 +179,16 @@ function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | nu
   return { check: { ...check, pass: true }, cause: null }
 }
 
-/** Rub and buzz against its limit: a level within EVENT_MARGIN_DB of the residual's floor is reported as below that bound. */
+/**
+ * Rub and buzz against its limit. A level within EVENT_MARGIN_DB of the residual's floor is the
+ * noise's own peak, so the unit's buzz is at most that (`below`): inside the limit it passes; above
+ * it the recording cannot tell buzz from noise.
+ */
 function rubBuzzCheck(r: Judgeable, value: number, lim: { low: number | null; high: number | null }): Decided {
   const floor = r.parameters.rubBuzzFloorDb
   const base = { name: 'rubBuzzDb', low: lim.low, high: lim.high, unit: CHECK_LABELS.rubBuzzDb!.unit }
   if (floor == null) return decided({ ...base, value: round(value) }, stand(value, 0, lim.low, lim.high))
-  const bound = floor + EVENT_MARGIN_DB
-  if (value <= bound) return decided({ ...base, value: round(bound), below: true }, stand(bound, 0, null, lim.high) === 'inside' ? 'inside' : 'straddles')
+  if (value <= floor + EVENT_MARGIN_DB) return decided({ ...base, value: round(value), below: true }, lim.high === null || value <= lim.high ? 'inside' : 'straddles')
   const u = levelUncertaintyDb(Math.pow(10, value / 20), Math.pow(10, floor / 20)) ?? 0
   return decided({ ...base, value: round(value), uncertainty: round(u) }, stand(value, u, lim.low, lim.high))
 }
