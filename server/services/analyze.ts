@@ -102,13 +102,14 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
   // Decide, then store, in one transaction holding the product row's share lock: a mask release
   // (which locks that row for update) either committed before and judges here, or waits for this
   // commit and then finds the result unjudged. A result can never miss the mask either way.
-  // A recording that could not measure what its kind of file should is refused (measure again),
-  // never stored as a pass; one that shows a unit fault or a failed check is stored as a fail.
+  // A table that could not measure what a table should is refused (export it again), never stored
+  // as a pass; a sweep that could not decide is stored as a retest (measure again); one that shows
+  // a unit fault or a failed check is stored as a fail.
   return db.transaction(async (trx) => {
     const mask = await getActiveMask(trx, product.id, { lockProduct: true })
     const refusal = rec.kind === 'impedance_table' ? tableRefusal(text!, product, mask?.limits ?? null) : null
     const verdict = refusal ? null : mask ? { maskId: mask.id, ...judge(analysis, mask.limits, product.ratedImpedanceOhm) } : null
-    if (refusal || (verdict && onlyUndecided(verdict))) {
+    if (refusal || (verdict && rec.kind === 'impedance_table' && onlyUndecided(verdict))) {
       const err = refusal ?? notMeasured(verdict!.undecided)
       await markFinishedWithError(trx, recordingId, 'rejected', err.code, err.message)
       return 'rejected'
