@@ -70,7 +70,7 @@ export interface AnalysisParameters extends ResultFigures {
  * `fromHz`/`toHz`: the part of the sweep it disturbed.
  */
 export interface Disturbance {
-  code: 'hum' | 'noise' | 'transient' | 'level'
+  code: 'hum' | 'noise' | 'transient' | 'level' | 'probe_fault'
   note: string
   retest: boolean
   atS?: number

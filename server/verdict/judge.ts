@@ -199,6 +199,7 @@ function round(x: number, digits = 4): number {
 
 /** The retest reason a set of causes and disturbances gives, most urgent first (RETEST_REASONS' order). */
 function retestReason(causes: readonly Cause[], disturbances: readonly Disturbance[], levelOff: boolean): RetestReason | null {
+  if (disturbances.some((d) => d.code === 'probe_fault' && d.retest)) return 'probe_fault'
   if (levelOff) return 'level'
   if (disturbances.some((d) => d.code === 'transient' && d.retest) || causes.includes('transient')) return 'transient'
   if (causes.includes('noise')) return disturbances.some((d) => d.code === 'hum') ? 'hum' : 'noise'
@@ -286,8 +287,11 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
     warnings.push(`The sweep was played ${Math.abs(levelOffset).toFixed(1)} dB ${levelOffset > 0 ? 'above' : 'below'} the station profile's level: check the amplifier gain and the profile.`)
   }
   const decidedFail = unitFault || checks.some((c) => !c.pass && !c.undecided)
-  const reason = unitFault ? null : levelOff ? 'level' : decidedFail ? null : retestReason(causes, disturbances, false)
-  const verdict = unitFault || (decidedFail && !levelOff) ? 'fail' : reason ? 'retest' : 'pass'
+  // A station fault (a dead probe, a level far off) keeps the whole recording from deciding, failed
+  // checks too; a unit fault decides whatever else the recording shows.
+  const stationFault = levelOff || disturbances.some((d) => d.code === 'probe_fault' && d.retest)
+  const reason = unitFault ? null : stationFault || !decidedFail ? retestReason(causes, disturbances, levelOff) : null
+  const verdict = unitFault || (decidedFail && !stationFault) ? 'fail' : reason ? 'retest' : 'pass'
   return { verdict, checks, unmeasured, undecided, retestReason: verdict === 'retest' ? reason : null, warnings }
 }
 

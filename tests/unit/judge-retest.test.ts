@@ -120,3 +120,11 @@ describe('the played level against the profile', () => {
     expect(judge(r, limits, 8)).toMatchObject({ verdict: 'fail', retestReason: null })
   })
 })
+
+describe('a station fault', () => {
+  it('ends retest for a dead probe whatever the checks say', () => {
+    const probe = { code: 'probe_fault' as const, note: 'microphone', retest: true }
+    const j = judge(withParams({ disturbances: [probe], sensitivityDb: null, thdMaxPct: null, rubBuzzDb: null }, { splDb: null, thdPct: null }), limits, 8)
+    expect(j).toMatchObject({ verdict: 'retest', retestReason: 'probe_fault' })
+  })
+})
