@@ -46,7 +46,8 @@ export function utcStamp(iso: string): string {
   return `${iso.slice(0, 10)} ${iso.slice(11, 16)} UTC`
 }
 
-const VERDICT_WORD = { pass: 'PASS', fail: 'FAIL' } as const
+/** A retest is stated as such: the unit was not decided by this test (measure it again before certifying). */
+const VERDICT_WORD = { pass: 'PASS', fail: 'FAIL', retest: 'RETEST' } as const
 
 function header(doc: Doc, d: CertificateData, x: number, w: number): number {
   doc.rect(0, 0, PAGE.width, 8).fill(ACCENT)
@@ -98,17 +99,18 @@ function parameterTable(doc: Doc, d: CertificateData, x: number, y: number, w: n
   doc.moveTo(x, y).lineTo(x + w, y).lineWidth(0.6).stroke(RULE)
   y += 5
   for (const r of rows) {
-    const cells = [r.label, r.value, r.unit, r.low, r.high, r.outcome === null ? 'not judged' : r.outcome === 'pass' ? 'pass' : 'FAIL']
+    const cells = [r.label, r.value, r.unit, r.low, r.high, r.outcome === null ? 'not judged' : r.outcome === 'pass' ? 'pass' : r.outcome === 'undecided' ? 'undecided' : 'FAIL']
     cells.forEach((cell, i) => {
       const c = cols[i]!
-      const color = i === 5 && r.outcome === 'fail' ? FAIL : i === 5 && r.outcome === null ? MUTED : INK
+      const color = i === 5 && r.outcome === 'fail' ? FAIL : i === 5 && (r.outcome === null || r.outcome === 'undecided') ? MUTED : INK
       text(doc, cell, c.x, y, c.w, 9.5, color, i === 1 || i === 5 ? 'Helvetica-Bold' : 'Helvetica')
     })
     y += 15
   }
-  const failedCurves = d.test.checks.filter((c) => (c.name === 'splDb' || c.name === 'impedanceOhm') && !c.pass)
-  const curveNote = d.test.checks.some((c) => c.name === 'splDb')
-    ? `Response curve against the mask band: ${failedCurves.some((c) => c.name === 'splDb') ? 'outside' : 'inside'}.`
+  const failedCurves = d.test.checks.filter((c) => (c.name === 'splDb' || c.name === 'impedanceOhm') && !c.pass && !c.undecided)
+  const spl = d.test.checks.find((c) => c.name === 'splDb')
+  const curveNote = spl
+    ? `Response curve against the mask band: ${spl.undecided ? 'could not decide' : failedCurves.some((c) => c.name === 'splDb') ? 'outside' : 'inside'}.`
     : 'The mask holds no response band.'
   text(doc, curveNote, x, y + 3, w, 9, MUTED)
   return y + 22

@@ -24,6 +24,8 @@ export function neutraliseCell(value: unknown): string {
 export const CSV_COLUMNS = [
   'serial', 'product', 'lot', 'first_test_at', 'last_test_at', 'tests', 'first_verdict', 'final_verdict', 'failed_checks',
   'fs_hz', 're20_ohm', 'qts', 'sensitivity_db', 'thd_max_pct', 'rub_buzz_db', 'returns',
+  // Added with the retest verdict, after the columns that were there before (their order and meaning are kept).
+  'retests', 'retest_reasons',
 ] as const
 
 /** The CSV text of a lot's units (header row first, CRLF line ends). */
@@ -32,6 +34,7 @@ export function lotUnitsCsv(rows: readonly LotUnitRow[]): string {
     [
       r.serial, r.product, r.lot, r.firstTestAt, r.lastTestAt, r.tests, r.firstVerdict ?? '', r.finalVerdict ?? '', r.failedChecks.join(' '),
       r.fsHz, r.re20Ohm, r.qts, r.sensitivityDb, r.thdMaxPct, r.rubBuzzDb, r.returns,
+      r.retests, r.retestReasons.join(' '),
     ].map(neutraliseCell),
   )
   return Papa.unparse({ fields: [...CSV_COLUMNS], data }, { newline: '\r\n', quotes: false })

@@ -1,7 +1,8 @@
 /**
  * The lot report as a PDF, ready to send to a customer (pdfkit, built-in Helvetica).
  * Always three A4 pages, so a reader (and a test) knows where to look:
- * 1. summary (lot, product, mask version, yields, units) and the failure Pareto as bars, with likely causes;
+ * 1. summary (lot, product, mask version, yields, units, retests and the units needing review) and
+ *    the failure Pareto as bars, with likely causes;
  * 2. distributions: a histogram per figure with the mask limits as lines, mean, sd, Cp and Cpk;
  * 3. drift: the individuals charts of Fs and Re with their control limits, flagged points and warnings.
  * Text is cut to fit its box, so no page overflows into an unplanned one.
@@ -37,6 +38,13 @@ function footer(doc: Doc, report: LotReport, page: number) {
   line(doc, `Conetrail lot report ${report.lot.code} · generated ${report.generatedAt} · page ${page} of ${LOT_REPORT_PAGES}`, PAGE.margin, PAGE.height - 36, PAGE.width - 2 * PAGE.margin, 8, MUTED)
 }
 
+/** "2 units (3.3 %): Mains hum 1, Disturbed by a knock 1", or "none". */
+function retestLine(r: LotReport): string {
+  const p = r.pareto
+  if (!p.anyRetest.units) return 'none'
+  return `${p.anyRetest.units} units (${pct(p.anyRetest.fraction)}): ${p.retests.map((x) => `${x.label} ${x.units}`).join(', ')}`
+}
+
 function summaryPage(doc: Doc, r: LotReport) {
   const x = PAGE.margin
   const w = PAGE.width - 2 * PAGE.margin
@@ -47,16 +55,20 @@ function summaryPage(doc: Doc, r: LotReport) {
   const rows: [string, string][] = [
     ['Units tested', String(s.unitsTested)],
     ['Units judged', String(s.unitsJudged)],
+    ['Units awaiting a retest', String(s.unitsAwaitingRetest)],
     ['Units never judged', String(s.unitsNeverJudged)],
     ['First-pass yield', `${pct(s.firstPassYield)} (${s.firstPassUnits} units)`],
     ['Final yield', `${pct(s.finalYield)} (${s.finalPassUnits} units)`],
     ['Retest rate', `${pct(s.retestRate)} (${s.retestedUnits} units)`],
     ['Return rate', `${pct(s.returnRate)} (${s.returnedUnits} units returned, ${s.returns} returns)`],
+    // Retests are not failures: counted apart from the Pareto of failing checks below.
+    ['First result: retest', retestLine(r)],
+    [`Needs review (${r.needsReview.retestLimit}+ retests in a row)`, r.needsReview.units.length ? r.needsReview.units.map((u) => `${u.serial} (${u.retests})`).join(', ') : 'none'],
   ]
   let y = 120
   for (const [k, v] of rows) {
-    line(doc, k, x, y, 160, 11, MUTED)
-    line(doc, v, x + 170, y, w - 170, 11, INK, 'Helvetica-Bold')
+    line(doc, k, x, y, 200, 11, MUTED)
+    line(doc, v, x + 210, y, w - 210, 11, INK, 'Helvetica-Bold')
     y += 18
   }
   y += 16
@@ -113,7 +125,7 @@ function distributionsPage(doc: Doc, r: LotReport) {
   const x = PAGE.margin
   const w = PAGE.width - 2 * PAGE.margin
   line(doc, `Distributions against the mask · lot ${r.lot.code}`, x, 48, w, 14, INK, 'Helvetica-Bold')
-  line(doc, "Each unit's first production result. Cp and Cpk as in the NIST/SEMATECH e-Handbook, 6.1.6.", x, 68, w, 8, MUTED)
+  line(doc, "Each unit's first production result that is not a retest. Cp and Cpk as in the NIST/SEMATECH e-Handbook, 6.1.6.", x, 68, w, 8, MUTED)
   const colW = (w - 24) / 2
   const boxH = 220
   r.distributions.forEach((d, i) => {

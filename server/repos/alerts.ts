@@ -1,7 +1,7 @@
 import type { Knex } from 'knex'
 import type { AlertView } from '../../shared/types/reports'
 import { ALERT_DEFAULTS, type AlertingInput } from '../../shared/utils/alerts'
-import type { Verdict } from '../../shared/utils/verdict'
+import { DECISIVE_VERDICTS, type DecisiveVerdict } from '../../shared/utils/verdict'
 
 export type AlertKind = AlertView['kind']
 
@@ -113,8 +113,11 @@ export async function lockLotAlerts(trx: Knex.Transaction, lotId: number | strin
   await trx.raw('SELECT pg_advisory_xact_lock(hashtextextended(?, 0))', [`conetrail:alerts:lot:${lotId}`])
 }
 
-/** The verdict of each unit's latest judged production result in the lot, newest unit first, at most n. */
-export async function latestLotVerdicts(db: Knex, lotId: number, n: number): Promise<Verdict[]> {
+/**
+ * The verdict of each unit's latest decisive (pass or fail) production result in the lot, newest
+ * unit first, at most n: a retest decides nothing, so it is neither a pass nor a fail here.
+ */
+export async function latestLotVerdicts(db: Knex, lotId: number, n: number): Promise<DecisiveVerdict[]> {
   const rows = await db
     .select('verdict')
     .from(
@@ -122,7 +125,7 @@ export async function latestLotVerdicts(db: Knex, lotId: number, n: number): Pro
         .join('units as u', 'u.id', 'r.unit_id')
         .join('recordings as rec', 'rec.id', 'r.recording_id')
         .where('u.lot_id', lotId)
-        .whereNotNull('r.verdict')
+        .whereIn('r.verdict', [...DECISIVE_VERDICTS])
         .where('rec.is_return_test', false)
         .distinctOn('r.unit_id')
         .select('r.unit_id', 'r.id', 'r.verdict')
@@ -131,7 +134,7 @@ export async function latestLotVerdicts(db: Knex, lotId: number, n: number): Pro
     )
     .orderBy('id', 'desc')
     .limit(n)
-  return rows.map((r: { verdict: Verdict }) => r.verdict)
+  return rows.map((r: { verdict: DecisiveVerdict }) => r.verdict)
 }
 
 export interface DriftRow {
@@ -140,7 +143,10 @@ export interface DriftRow {
   re20_ohm: number | null
 }
 
-/** Fs and Re at 20 °C of each unit's first production result in the lot, in production order. */
+/**
+ * Fs and Re at 20 °C of each unit's first production result in the lot that did not end `retest`
+ * (a retest's recording was disturbed: its figures are not the unit's), in production order.
+ */
 export async function listLotFirstFigures(db: Knex, lotId: number): Promise<DriftRow[]> {
   return db
     .select('serial', 'fs_hz', 're20_ohm')
@@ -150,6 +156,7 @@ export async function listLotFirstFigures(db: Knex, lotId: number): Promise<Drif
         .join('recordings as rec', 'rec.id', 'r.recording_id')
         .where('u.lot_id', lotId)
         .where('rec.is_return_test', false)
+        .where((q) => q.whereNull('r.verdict').orWhereNot('r.verdict', 'retest'))
         .distinctOn('r.unit_id')
         .select('r.unit_id', 'r.id', 'u.serial', 'r.fs_hz', 'r.re20_ohm')
         .orderBy([{ column: 'r.unit_id' }, { column: 'r.id', order: 'asc' }])

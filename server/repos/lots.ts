@@ -1,6 +1,6 @@
 import type { Knex } from 'knex'
 import type { LotSummary } from '../../shared/types/reports.ts'
-import type { Verdict } from '../../shared/utils/verdict.ts'
+import type { RetestReason, Verdict } from '../../shared/utils/verdict.ts'
 
 export interface LotRow {
   id: number
@@ -38,7 +38,9 @@ export interface LotResultRow {
   resultId: number
   uploadedAt: Date
   verdict: Verdict | null
-  /** The checks this result failed (value and bounds as judged). */
+  /** Why a `retest` result could not decide (null otherwise). */
+  retestReason: RetestReason | null
+  /** The checks this result failed (value and bounds as judged; a check that could not decide is no failure). */
   failedChecks: { name: string; value: number | null; low: number | null; high: number | null }[]
   fsHz: number | null
   re20Ohm: number | null
@@ -60,9 +62,9 @@ export async function listLotResults(db: Knex, lotId: number): Promise<LotResult
     .where({ 'u.lot_id': lotId, 'r.is_return_test': false })
     .orderBy([{ column: 'r.uploaded_at' }, { column: 'res.id' }])
     .select(
-      'u.id as unit_id', 'u.serial', 'res.id as result_id', 'r.uploaded_at', 'res.verdict',
+      'u.id as unit_id', 'u.serial', 'res.id as result_id', 'r.uploaded_at', 'res.verdict', 'res.retest_reason',
       // Only the failed checks travel: most results pass, and parsing every check of a lot's results dominated the report's time.
-      db.raw(`jsonb_path_query_array(res.checks, '$.checks[*] \\? (@.pass == false)') as failed_checks`),
+      db.raw(`jsonb_path_query_array(res.checks, '$.checks[*] \\? (@.pass == false && !(@.undecided == true))') as failed_checks`),
       'res.fs_hz', 'res.re20_ohm', 'res.re_ohm', 'res.qts', 'res.sensitivity_db', 'res.rub_buzz_db',
       // THD max as judged: a mask with a THD band reads it inside the band (the check's value), not over the whole sweep.
       db.raw(`coalesce((jsonb_path_query_first(res.checks, '$.checks[*] \\? (@.name == "thdMaxPct").value'))::float8, res.thd_max_pct) as thd_max_pct`),
@@ -73,6 +75,7 @@ export async function listLotResults(db: Knex, lotId: number): Promise<LotResult
     resultId: Number(r.result_id),
     uploadedAt: r.uploaded_at,
     verdict: r.verdict,
+    retestReason: r.retest_reason ?? null,
     failedChecks: (r.failed_checks ?? []) as LotResultRow['failedChecks'],
     fsHz: r.fs_hz,
     re20Ohm: r.re20_ohm,
@@ -101,9 +104,10 @@ export interface LotFilter {
 }
 
 /**
- * Lots with their yield, newest first. Per unit: its first production result and its latest judged
- * one (definitions as in server/stats/yield.ts: first-pass yield over units whose first result is
- * judged, final yield over units judged).
+ * Lots with their yield, newest first. Per unit: its first production result and its latest
+ * decisive one (definitions as in server/stats/yield.ts: first-pass yield over units whose first
+ * result is judged, a first retest counting as no first pass; final yield over units with a
+ * decisive result).
  */
 export async function listLots(db: Knex, filter: LotFilter = {}): Promise<LotSummary[]> {
   const lots = db('lots as l')
@@ -120,7 +124,7 @@ export async function listLots(db: Knex, filter: LotFilter = {}): Promise<LotSum
     per_unit AS (
       SELECT u.lot_id,
              (array_agg(res.verdict ORDER BY r.uploaded_at, res.id))[1] AS first_verdict,
-             (array_agg(res.verdict ORDER BY r.uploaded_at DESC, res.id DESC) FILTER (WHERE res.verdict IS NOT NULL))[1] AS last_verdict,
+             (array_agg(res.verdict ORDER BY r.uploaded_at DESC, res.id DESC) FILTER (WHERE res.verdict IN ('pass', 'fail')))[1] AS last_verdict,
              max(r.uploaded_at) AS last_at
         FROM lot
         JOIN units u ON u.lot_id = lot.id
@@ -185,7 +189,8 @@ export interface LineProductDay {
 
 /**
  * Units tested on each line (stations.line) and product in [from, to), production only; each unit
- * counted once by its latest judged result in the window (a retest that passed counts as passed).
+ * counted once by its latest decisive result in the window (a second test that passed counts as
+ * passed; a unit with only `retest` results in the window is tested, neither passed nor failed).
  */
 export async function listDayYield(db: Knex, from: Date, to: Date): Promise<LineProductDay[]> {
   const { rows } = await db.raw(
@@ -195,7 +200,7 @@ export async function listDayYield(db: Knex, from: Date, to: Date): Promise<Line
            count(*) FILTER (WHERE last_verdict = 'fail') AS failed
       FROM (
         SELECT coalesce(s.line, '') AS line, p.code AS product_code, res.unit_id,
-               (array_agg(res.verdict ORDER BY r.uploaded_at DESC, res.id DESC) FILTER (WHERE res.verdict IS NOT NULL))[1] AS last_verdict
+               (array_agg(res.verdict ORDER BY r.uploaded_at DESC, res.id DESC) FILTER (WHERE res.verdict IN ('pass', 'fail')))[1] AS last_verdict
           FROM recordings r
           JOIN results res ON res.recording_id = r.id
           JOIN units u ON u.id = res.unit_id
@@ -217,3 +222,54 @@ export async function listDayYield(db: Knex, from: Date, to: Date): Promise<Line
   }))
 }
 
+
+/** A unit of a lot whose latest results are retests, at least its product's retest limit of them in a row. */
+export interface NeedsReviewRow {
+  serial: string
+  /** Retests since its latest decisive (pass or fail) result. */
+  retests: number
+  /** Their reasons, newest first (one per retest). */
+  reasons: RetestReason[]
+  lastTestAt: Date
+  /** The newest of those retests' recording. */
+  latestRecordingId: number
+}
+
+/**
+ * Units of a lot that need review: their production results since the latest decisive one (return
+ * tests left out; unjudged results neither count nor break the run) are retests, at least
+ * products.retest_limit of them. Oldest run first, in production order (upload time, then result id).
+ */
+export async function listNeedsReview(db: Knex, lotId: number): Promise<NeedsReviewRow[]> {
+  const { rows } = await db.raw(
+    `
+    WITH ordered AS (
+      SELECT u.id AS unit_id, u.serial, p.retest_limit, res.verdict, res.retest_reason, r.id AS recording_id, r.uploaded_at, res.id AS result_id,
+             count(*) FILTER (WHERE res.verdict IN ('pass', 'fail'))
+               OVER (PARTITION BY u.id ORDER BY r.uploaded_at DESC, res.id DESC ROWS BETWEEN UNBOUNDED PRECEDING AND CURRENT ROW) AS decisive_since
+        FROM units u
+        JOIN products p ON p.id = u.product_id
+        JOIN results res ON res.unit_id = u.id
+        JOIN recordings r ON r.id = res.recording_id AND NOT r.is_return_test
+       WHERE u.lot_id = ?
+    )
+    SELECT serial, count(*) AS retests,
+           array_agg(retest_reason ORDER BY uploaded_at DESC, result_id DESC) AS reasons,
+           max(uploaded_at) AS last_at,
+           (array_agg(recording_id ORDER BY uploaded_at DESC, result_id DESC))[1] AS latest_recording_id,
+           min(uploaded_at) AS first_at
+      FROM ordered
+     WHERE decisive_since = 0 AND verdict = 'retest'
+     GROUP BY unit_id, serial, retest_limit
+    HAVING count(*) >= retest_limit
+     ORDER BY first_at, serial`,
+    [lotId],
+  )
+  return rows.map((r: { serial: string; retests: string; reasons: RetestReason[]; last_at: Date; latest_recording_id: string }) => ({
+    serial: r.serial,
+    retests: Number(r.retests),
+    reasons: r.reasons,
+    lastTestAt: r.last_at,
+    latestRecordingId: Number(r.latest_recording_id),
+  }))
+}

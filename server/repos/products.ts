@@ -3,6 +3,7 @@ import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import type { ProductView } from '../../shared/types/api.ts'
 import type { ProductListItem } from '../../shared/utils/product.ts'
 import { coilSchema, expectedRe20Ohm, DEFAULT_RE_WARN_PCT, type Coil } from '../../shared/utils/coil.ts'
+import { DEFAULT_RETEST_LIMIT } from '../../shared/utils/verdict.ts'
 import type { Knex } from 'knex'
 import { isUniqueViolation } from './pg-errors.ts'
 
@@ -18,6 +19,7 @@ export interface ProductRow {
   /** jsonb, shared/utils/coil.ts coilSchema (absent when a caller selected other columns only). */
   coil?: unknown
   re_warn_pct?: number
+  retest_limit?: number
 }
 
 /** A product as the API shows it (shared type). */
@@ -49,6 +51,7 @@ export function toProduct(r: ProductRow): ProductSummary {
     coil,
     expectedRe20Ohm: coil ? Number(expectedRe20Ohm(coil).toFixed(RE_DECIMALS)) : null,
     reWarnPct: r.re_warn_pct ?? DEFAULT_RE_WARN_PCT,
+    retestLimit: r.retest_limit ?? DEFAULT_RETEST_LIMIT,
   }
 }
 
@@ -85,6 +88,7 @@ export interface NewProduct {
   sensitivityBandHz?: [number, number]
   coil?: Coil | null
   reWarnPct?: number
+  retestLimit?: number
 }
 
 
@@ -104,6 +108,7 @@ export async function createProduct(db: Knex, p: NewProduct): Promise<number> {
         sens_band_high_hz: p.sensitivityBandHz?.[1] ?? 3000,
         coil: p.coil ? JSON.stringify(p.coil) : null,
         re_warn_pct: p.reWarnPct ?? DEFAULT_RE_WARN_PCT,
+        retest_limit: p.retestLimit ?? DEFAULT_RETEST_LIMIT,
       })
       .returning('id')
     return Number(row.id)
@@ -141,6 +146,7 @@ export async function updateProduct(db: Knex, code: string, changes: ProductChan
     if (changes.sensitivityBandHz) [update.sens_band_low_hz, update.sens_band_high_hz] = changes.sensitivityBandHz
     if (changes.coil !== undefined) update.coil = changes.coil ? JSON.stringify(changes.coil) : null
     if (changes.reWarnPct !== undefined) update.re_warn_pct = changes.reWarnPct
+    if (changes.retestLimit !== undefined) update.retest_limit = changes.retestLimit
     try {
       await trx('products').where({ id: row.id }).update({ ...update, updated_at: trx.fn.now() })
     } catch (err) {

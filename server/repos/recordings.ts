@@ -1,7 +1,7 @@
 import type { Knex } from 'knex'
 import type { RecordingStatus } from '../../shared/utils/recordings.ts'
 import type { CurveLimit, RecordingCurves, RecordingSummary, RecordingView } from '../../shared/types/api.ts'
-import type { Verdict } from '../../shared/utils/verdict.ts'
+import { RETEST_ADVICE, type RetestReason, type Verdict } from '../../shared/utils/verdict.ts'
 
 export interface RecordingRow {
   id: string
@@ -126,7 +126,7 @@ function viewQuery(db: Knex) {
 const SUMMARY_COLUMNS = [
   'r.id', 'r.status', 'r.kind', 'r.uploaded_at', 'r.finished_at', 'r.error_code', 'r.error_message', 'r.station_id', 'r.original_name', 'r.is_return_test',
   'u.serial', 'p.code as product_code', 'l.code as lot_code', 's.name as station_name',
-  'res.id as result_id', 'res.verdict', 'res.checks', 'm.version as mask_version',
+  'res.id as result_id', 'res.verdict', 'res.retest_reason', 'res.checks', 'm.version as mask_version',
 ]
 
 interface SummaryRow {
@@ -146,7 +146,9 @@ interface SummaryRow {
   station_name: string | null
   result_id: string | null
   verdict: Verdict | null
-  checks: { checks: RecordingView['checks']; unmeasured: string[] } | null
+  retest_reason: RetestReason | null
+  /** Results stored before retests lack `undecided` and `warnings`. */
+  checks: { checks: RecordingView['checks']; unmeasured: string[]; undecided?: string[]; warnings?: string[] } | null
   mask_version: number | null
 }
 
@@ -161,7 +163,11 @@ function toSummary(r: SummaryRow): RecordingSummary {
     kind: r.kind,
     status: r.status,
     verdict: r.verdict,
-    failedChecks: (r.checks?.checks ?? []).filter((c) => !c.pass).map((c) => c.name),
+    retestReason: r.retest_reason ?? null,
+    retestAdvice: r.retest_reason ? { ...RETEST_ADVICE[r.retest_reason] } : null,
+    // A check that could not decide is not a failure: it is listed apart.
+    failedChecks: (r.checks?.checks ?? []).filter((c) => !c.pass && !c.undecided).map((c) => c.name),
+    undecidedChecks: (r.checks?.checks ?? []).filter((c) => c.undecided).map((c) => c.name),
     uploadedAt: r.uploaded_at.toISOString(),
     finishedAt: r.finished_at ? r.finished_at.toISOString() : null,
     originalName: r.original_name,
@@ -194,6 +200,8 @@ function toView(r: ViewRow, curves: boolean): RecordingView {
     parameters: r.parameters ? (parameters as RecordingView['parameters']) : null,
     checks: r.checks?.checks ?? [],
     unmeasured: [...new Set([...(r.checks?.unmeasured ?? []), ...(unmeasured as string[])])],
+    // The judge's warnings once judged; before, the engine's own (both absent in older results).
+    warnings: r.checks?.warnings ?? (Array.isArray(parameters.warnings) ? (parameters.warnings as string[]) : []),
     notes: notes as string[],
     thdAt: thdAt as RecordingView['thdAt'],
     flags: r.flags ?? null,

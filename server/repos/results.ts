@@ -1,7 +1,7 @@
 import type { Knex } from 'knex'
 import type { AnalysisResult } from '../analysis/index.ts'
 import type { CheckView } from '../../shared/types/api.ts'
-import type { Verdict } from '../../shared/utils/verdict.ts'
+import type { RetestReason, Verdict } from '../../shared/utils/verdict.ts'
 
 export interface NewResult {
   recordingId: number
@@ -19,11 +19,24 @@ export interface StoredJudgement {
   unmeasured: string[]
   /** Checks the file should have measured but could not (each also a failing check without a value). */
   undecided?: string[]
+  /** Why the verdict is `retest`: stored exactly with that verdict (null or absent otherwise). */
+  retestReason?: RetestReason | null
+  /** What the station should look at that did not change the verdict (kept in the checks JSON). */
+  warnings?: string[]
 }
 
 /** The mask that judged a new result, and what it found. */
 export interface VerdictToStore extends StoredJudgement {
   maskId: number
+}
+
+/** The judged part of a result's row: verdict, its retest reason, and the checks JSON (checks, unmeasured, undecided, warnings). */
+function judgedColumns(j: StoredJudgement) {
+  return {
+    verdict: j.verdict,
+    retest_reason: j.verdict === 'retest' ? (j.retestReason ?? 'undecided') : null,
+    checks: JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured, undecided: j.undecided ?? [], warnings: j.warnings ?? [] }),
+  }
 }
 
 const CURVE_DIGITS = 5
@@ -48,8 +61,7 @@ export async function saveResult(trx: Knex.Transaction, r: NewResult, j: Verdict
       unit_id: r.unitId,
       kind: a.kind,
       mask_id: j?.maskId ?? null,
-      verdict: j?.verdict ?? null,
-      checks: j ? JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured, undecided: j.undecided ?? [] }) : null,
+      ...(j ? judgedColumns(j) : { verdict: null, retest_reason: null, checks: null }),
       judged_at: j ? trx.fn.now() : null,
       re_ohm: p.reOhm,
       re20_ohm: p.re20Ohm,
@@ -175,5 +187,5 @@ export async function setFirstVerdict(db: Knex, resultId: number, maskId: number
   await db('results')
     .where({ id: resultId })
     .whereNull('verdict')
-    .update({ mask_id: maskId, verdict: j.verdict, checks: JSON.stringify({ checks: j.checks, unmeasured: j.unmeasured, undecided: j.undecided ?? [] }), judged_at: db.fn.now() })
+    .update({ mask_id: maskId, ...judgedColumns(j), judged_at: db.fn.now() })
 }

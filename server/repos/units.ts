@@ -149,8 +149,9 @@ interface HitRow {
 }
 
 /**
- * Units by id or serial with their product, lot, latest upload, number of tests and the verdict of
- * their latest finished production test (two index reads per unit), in the order asked.
+ * Units by id or serial with their product, lot, latest upload, number of tests and their verdict:
+ * that of their latest finished production test that is not a retest, or `retest` when all are
+ * (shared/utils/verdict.ts unitVerdictOf), in the order asked.
  */
 export async function getUnitHits(db: Knex, by: { ids: number[] } | { serials: string[] }): Promise<UnitHit[]> {
   const q = db('units as u')
@@ -158,8 +159,10 @@ export async function getUnitHits(db: Knex, by: { ids: number[] } | { serials: s
     .leftJoin('lots as l', 'l.id', 'u.lot_id')
     .joinRaw('cross join lateral (select max(r.uploaded_at) as last_tested_at, count(*) as tests from recordings r where r.unit_id = u.id) t')
     .joinRaw(
+      // Retests decide nothing: the latest other result's verdict, or `retest` when there are only retests (unitVerdictOf).
       `left join lateral (select res.verdict from recordings r join results res on res.recording_id = r.id
-        where r.unit_id = u.id and r.status = 'done' and not r.is_return_test order by r.id desc limit 1) v on true`,
+        where r.unit_id = u.id and r.status = 'done' and not r.is_return_test
+        order by res.verdict is not distinct from 'retest', r.id desc limit 1) v on true`,
     )
     .select('u.id', 'u.serial', 'p.code as product_code', 'p.name as product_name', 'l.code as lot_code', 't.last_tested_at', 't.tests', 'v.verdict')
   if ('ids' in by) q.whereIn('u.id', by.ids)

@@ -1,11 +1,11 @@
 /**
  * Alert rules, evaluated after each saved result so quality hears of a problem by e-mail while the
  * lot is still on the line:
- * - low yield: the yield of the last N judged units of an open lot (each unit's latest judged
- *   result, return tests left out) below the product's threshold. Evaluated once the lot has N
+ * - low yield: the yield of the last N judged units of an open lot (each unit's latest decisive
+ *   result, return tests left out; a retest is no fail) below the product's threshold. Evaluated once the lot has N
  *   judged units, so a few early failures of a new lot do not raise the alarm on their own;
  * - drift: the I-MR chart (server/stats) of Fs and of Re at 20 °C over the lot's production order
- *   (each unit's first result) signals a Western Electric run rule at the latest unit.
+ *   (each unit's first result that is not a retest) signals a Western Electric run rule at the latest unit.
  * An alert is an episode: it opens when its condition starts (one open per product, lot and kind,
  * held by a partial unique index), is mailed to the product's subscribers once, and closes when
  * the condition clears; a later return of the condition is a new episode and a new e-mail.
@@ -13,7 +13,7 @@
 import type { Knex } from 'knex'
 import type { AlertingInput, AlertingView } from '../../shared/utils/alerts'
 import { describeSignal, imrChart, RUN_RULES } from '../stats/index'
-import type { Verdict } from '../../shared/utils/verdict'
+import { isDecisive, type Verdict } from '../../shared/utils/verdict'
 import { sendMail, type OutgoingMail } from '../mail/index'
 import {
   claimAlertMail,
@@ -49,9 +49,12 @@ export interface YieldWindow {
   low: boolean
 }
 
-/** The low-yield rule on the latest verdicts of the last judged units, newest first. */
-export function yieldWindow(verdicts: readonly Verdict[], s: Pick<AlertSettings, 'lastN' | 'minYieldPct'>): YieldWindow {
-  const window = verdicts.slice(0, s.lastN)
+/**
+ * The low-yield rule on the latest verdicts of the last judged units, newest first. Only decisive
+ * verdicts count: a retest is neither a pass nor a fail (the unit is measured again).
+ */
+export function yieldWindow(verdicts: readonly (Verdict | null)[], s: Pick<AlertSettings, 'lastN' | 'minYieldPct'>): YieldWindow {
+  const window = verdicts.filter(isDecisive).slice(0, s.lastN)
   const passed = window.filter((v) => v === 'pass').length
   const yieldPct = window.length ? (100 * passed) / window.length : null
   const evaluated = window.length >= s.lastN

@@ -2,7 +2,8 @@ import type { Knex } from 'knex'
 import type { ControlChartView, FigureDistribution, LikelyCause, LotReport, ParetoRowView, ReportFigure } from '../../shared/types/reports.ts'
 import { CHECK_LABELS, type MaskLimits } from '../../shared/utils/mask.ts'
 import { listCauses } from '../repos/causes.ts'
-import { getLotByCode, listGoldenFigures, listLotResults, type LotResultRow, type LotRow } from '../repos/lots.ts'
+import { getLotByCode, listGoldenFigures, listLotResults, listNeedsReview, type LotResultRow, type LotRow } from '../repos/lots.ts'
+import { getProductById } from '../repos/products.ts'
 import { getActiveMask } from '../repos/masks.ts'
 import { countLotReturns, countReturnsPerUnit } from '../repos/returns.ts'
 import {
@@ -17,7 +18,7 @@ import {
   type RuleSignal,
   type UnitHistory,
 } from '../stats/index.ts'
-import type { Verdict } from '../../shared/utils/verdict.ts'
+import { RETEST_ADVICE, type RetestReason, type Verdict } from '../../shared/utils/verdict.ts'
 
 /** Golden units a mask needs before its golden values set the control limits (fewer: the lot's own first in-control stretch). Our choice. */
 export const MIN_GOLDEN_FOR_BASELINE = 5
@@ -62,7 +63,16 @@ function figureOf(r: LotResultRow, f: ReportFigure): number | null {
 const failedChecks = (r: LotResultRow) => r.failedChecks.map((c) => c.name)
 
 function histories(units: readonly UnitResults[]): UnitHistory[] {
-  return units.map((u) => ({ serial: u.serial, tests: u.results.map((r) => ({ verdict: r.verdict, failedChecks: failedChecks(r) })) }))
+  return units.map((u) => ({ serial: u.serial, tests: u.results.map((r) => ({ verdict: r.verdict, failedChecks: failedChecks(r), retestReason: r.retestReason })) }))
+}
+
+/**
+ * The result whose figures stand for the unit in distributions and drift: its first that did not
+ * end `retest` (a retest's recording was disturbed, so its figures are not the unit's); undefined
+ * when all its results so far are retests.
+ */
+function figuresResult(u: UnitResults): LotResultRow | undefined {
+  return u.results.find((r) => r.verdict !== 'retest')
 }
 
 /** The failure class of a failed check: the check name, with the side for a figure with limits (`fsHz:high`). */
@@ -87,6 +97,8 @@ function pareto(units: readonly UnitResults[], causes: readonly LikelyCause[]): 
     basis: p.basis,
     unitsConsidered: p.unitsConsidered,
     any: { units: p.any.units, fraction: p.any.unitFraction },
+    anyRetest: { units: p.anyRetest.units, fraction: p.anyRetest.unitFraction },
+    retests: p.retests.map((r) => ({ reason: r.reason, label: RETEST_ADVICE[r.reason].label, units: r.units, unitFraction: r.unitFraction })),
     rows: p.rows.map((r) => ({
       check: r.check,
       label: CHECK_LABELS[r.check]?.label ?? r.check,
@@ -100,7 +112,10 @@ function pareto(units: readonly UnitResults[], causes: readonly LikelyCause[]): 
 }
 
 function distribution(units: readonly UnitResults[], f: ReportFigure, limits: MaskLimits | null): FigureDistribution {
-  const values = units.map((u) => figureOf(u.results[0]!, f))
+  const values = units.flatMap((u) => {
+    const r = figuresResult(u)
+    return r ? [figureOf(r, f)] : []
+  })
   const lim = limits?.scalars[f]
   const lsl = lim?.low ?? null
   const usl = lim?.high ?? null
@@ -140,7 +155,10 @@ function drift(units: readonly UnitResults[], golden: readonly { fsHz: number | 
   for (const f of DRIFT_FIGURES) {
     const label = { label: CHECK_LABELS[f]!.label, unit: CHECK_LABELS[f]!.unit }
     const points = units
-      .map((u) => ({ serial: u.serial, at: u.results[0]!.uploadedAt.toISOString(), value: figureOf(u.results[0]!, f) }))
+      .flatMap((u) => {
+        const r = figuresResult(u)
+        return r ? [{ serial: u.serial, at: r.uploadedAt.toISOString(), value: figureOf(r, f) }] : []
+      })
       .filter((p): p is { serial: string; at: string; value: number } => p.value !== null && Number.isFinite(p.value))
     const goldenValues = golden.map((g) => g[f]).filter((v): v is number => v !== null && Number.isFinite(v))
     const useGolden = goldenValues.length >= MIN_GOLDEN_FOR_BASELINE
@@ -193,13 +211,21 @@ const lotView = (lot: LotRow): LotReport['lot'] => ({
 
 /**
  * The lot report: yield (server/stats/yield.ts definitions) from each unit's production results in
- * time order, the failure Pareto of first results with likely causes, distributions of each unit's
- * first result against the active mask, and I-MR drift charts over production order.
+ * time order, the failure Pareto of first results with likely causes (retest reasons apart),
+ * distributions of each unit's first result that is not a retest against the active mask, I-MR
+ * drift charts over production order, and the units that need review (retests in a row).
  */
 export async function getLotReport(db: Knex, lotCode: string): Promise<LotReport | undefined> {
   const lot = await getLotByCode(db, lotCode)
   if (!lot) return undefined
-  const [rows, mask, causes, returns] = await Promise.all([listLotResults(db, lot.id), getActiveMask(db, lot.productId), listCauses(db), countLotReturns(db, lot.id)])
+  const [rows, mask, causes, returns, product, review] = await Promise.all([
+    listLotResults(db, lot.id),
+    getActiveMask(db, lot.productId),
+    listCauses(db),
+    countLotReturns(db, lot.id),
+    getProductById(db, lot.productId),
+    listNeedsReview(db, lot.id),
+  ])
   const units = groupByUnit(rows)
   const golden = mask ? await listGoldenFigures(db, mask.id) : []
   const y = computeYield(histories(units))
@@ -210,6 +236,7 @@ export async function getLotReport(db: Knex, lotCode: string): Promise<LotReport
     summary: {
       unitsTested: y.unitsTested,
       unitsJudged: y.unitsJudged,
+      unitsAwaitingRetest: y.unitsAwaitingRetest,
       unitsNeverJudged: y.unitsNeverJudged,
       firstPassYield: y.firstPassYield,
       finalYield: y.finalYield,
@@ -217,11 +244,16 @@ export async function getLotReport(db: Knex, lotCode: string): Promise<LotReport
       firstPassUnits: y.firstPassUnits,
       finalPassUnits: y.finalPassUnits,
       retestedUnits: y.retestedUnits,
+      firstRetestUnits: y.firstRetestUnits,
       returns: returns.returns,
       returnedUnits: returns.returnedUnits,
       returnRate: y.unitsTested === 0 ? null : returns.returnedUnits / y.unitsTested,
     },
     pareto: pareto(units, causes),
+    needsReview: {
+      retestLimit: product!.retestLimit,
+      units: review.map((r) => ({ serial: r.serial, retests: r.retests, reasons: r.reasons, lastTestAt: r.lastTestAt.toISOString(), latestRecordingId: r.latestRecordingId })),
+    },
     distributions: REPORT_FIGURES.map((f) => distribution(units, f, mask?.limits ?? null)),
     drift: drift(units, golden, driftNotes),
     driftNotes,
@@ -239,10 +271,14 @@ export interface LotUnitRow {
   lastTestAt: string
   tests: number
   firstVerdict: Verdict | null
+  /** The unit's standing: its latest decisive (pass or fail) verdict; `retest` with only retests so far; null when nothing is judged. */
   finalVerdict: Verdict | null
-  /** Checks the final (latest judged, else latest) result failed. */
+  /** Checks the final (latest decisive, else latest) result failed. */
   failedChecks: string[]
-  /** Figures of the latest production result. */
+  /** Production results that ended `retest`, and their reasons in test order. */
+  retests: number
+  retestReasons: RetestReason[]
+  /** Figures of the latest production result that is not a retest (else the latest). */
   fsHz: number | null
   re20Ohm: number | null
   qts: number | null
@@ -261,7 +297,10 @@ export async function getLotUnitRows(db: Knex, lotCode: string): Promise<{ lot: 
   const rows = loaded.units.map((u): LotUnitRow => {
     const first = u.results[0]!
     const latest = u.results[u.results.length - 1]!
-    const finalJudged = [...u.results].reverse().find((r) => r.verdict !== null)
+    const newestFirst = [...u.results].reverse()
+    const finalJudged = newestFirst.find((r) => r.verdict === 'pass' || r.verdict === 'fail') ?? newestFirst.find((r) => r.verdict === 'retest')
+    const figures = newestFirst.find((r) => r.verdict !== 'retest') ?? latest
+    const retests = u.results.filter((r) => r.verdict === 'retest')
     return {
       serial: u.serial,
       product: loaded.lot.productCode,
@@ -272,12 +311,14 @@ export async function getLotUnitRows(db: Knex, lotCode: string): Promise<{ lot: 
       firstVerdict: first.verdict,
       finalVerdict: finalJudged?.verdict ?? null,
       failedChecks: failedChecks(finalJudged ?? latest),
-      fsHz: latest.fsHz,
-      re20Ohm: latest.re20Ohm ?? latest.reOhm,
-      qts: latest.qts,
-      sensitivityDb: latest.sensitivityDb,
-      thdMaxPct: latest.thdMaxPct,
-      rubBuzzDb: latest.rubBuzzDb,
+      retests: retests.length,
+      retestReasons: retests.map((r) => r.retestReason ?? 'undecided'),
+      fsHz: figures.fsHz,
+      re20Ohm: figures.re20Ohm ?? figures.reOhm,
+      qts: figures.qts,
+      sensitivityDb: figures.sensitivityDb,
+      thdMaxPct: figures.thdMaxPct,
+      rubBuzzDb: figures.rubBuzzDb,
       returns: returns.get(u.serial) ?? 0,
     }
   })

@@ -190,9 +190,9 @@ export async function previewMask(db: Knex, maskId: number, last: number): Promi
   // Units, not results: each unit's latest production result, so a retested unit counts once.
   const results = await listLatestPerUnit(db, m.productId, last)
   const rated = product.ratedImpedanceOhm
-  const failing = (j: Judgement | null) => new Set(j ? j.checks.filter((c) => !c.pass).map((c) => c.name) : [])
-  const draft = { pass: 0, fail: 0 }
-  const now = { pass: 0, fail: 0 }
+  const failing = (j: Judgement | null) => new Set(j ? j.checks.filter((c) => !c.pass && !c.undecided).map((c) => c.name) : [])
+  const draft = { pass: 0, fail: 0, retest: 0 }
+  const now = { pass: 0, fail: 0, retest: 0 }
   const byCheck = new Map<string, { newFails: number; newPasses: number }>()
   const changed: MaskPreview['changed'] = []
   let changedTotal = 0

@@ -4,6 +4,7 @@ import type { Knex } from 'knex'
 import type { RecordingView } from '../../shared/types/api.ts'
 import type { UnitSearchAnswer, UnitTest, UnitView } from '../../shared/types/units.ts'
 import { NEAREST_LIMIT, SEARCH_LIST_LIMIT, rankNearest } from '../../shared/utils/units.ts'
+import { retestsInARow, unitVerdictOf } from '../../shared/utils/verdict.ts'
 import { recordAudit } from './audit.ts'
 import { getProductById } from '../repos/products.ts'
 import { getRecordingView, listUnitRecordings } from '../repos/recordings.ts'
@@ -52,7 +53,7 @@ async function findUnit(db: Knex, serial: string) {
 /**
  * A unit's factory record: product, lot and every recording with its result, newest first, with
  * who ran each test, where, and the mask version that judged it. Its verdict is its latest
- * production result's; beside each historic verdict, what the current mask says (currentMaskOpinion:
+ * production result's, passing over retests (unitVerdictOf); beside each historic verdict, what the current mask says (currentMaskOpinion:
  * a re-judgement shown, never stored).
  */
 export async function getUnitView(db: Knex, serial: string): Promise<UnitView | undefined> {
@@ -78,13 +79,18 @@ export async function getUnitView(db: Knex, serial: string): Promise<UnitView | 
       note: c?.note ?? null,
     }
   })
-  const latest = recordings.find((r) => r.status === 'done' && !r.returnTest)
+  const production = recordings.filter((r) => r.status === 'done' && !r.returnTest)
+  // A retest decides nothing: the unit stands by its latest other test (unitVerdictOf), and a certificate states that one.
+  const latest = production.find((r) => r.verdict !== 'retest') ?? production[0]
+  const verdicts = production.map((r) => r.verdict)
+  const inARow = retestsInARow(verdicts)
   const currentMask = await currentMaskOpinion(db, product!, recordings.map((r) => r.id))
   return {
     serial: unit.serial,
     product: product!,
     lot: lot ?? null,
-    verdict: latest?.verdict ?? null,
+    verdict: unitVerdictOf(verdicts),
+    retests: { inARow, limit: product!.retestLimit, needsReview: inARow >= product!.retestLimit },
     recordings: tests,
     latestProductionId: latest?.id ?? null,
     registeredAt: unit.created_at.toISOString(),

@@ -23,6 +23,7 @@ export {
   type ParetoBasis,
   type ParetoResult,
   type ParetoRow,
+  type RetestRow,
   type UnitHistory,
   type ProductionResult,
   type YieldSummary,

@@ -3,7 +3,7 @@ import type { ErrorCode } from '../utils/error-codes'
 import type { Coil } from '../utils/coil'
 import type { RecordingStatus } from '../utils/recordings'
 import type { StationProfile } from '../utils/station-profile'
-import type { Verdict } from '../utils/verdict'
+import type { RetestReason, Verdict } from '../utils/verdict'
 
 /** Every error answer (server/utils/errors.ts, errorAnswer); `code` is from shared/utils/error-codes.ts. */
 export interface ApiErrorBody {
@@ -74,8 +74,19 @@ export interface RecordingSummary {
   stationName: string | null
   kind: 'sweep' | 'impedance_table'
   status: RecordingStatus
+  /**
+   * `pass`, `fail`, `retest` (measure the unit again: see retestReason), or null while no mask is
+   * released. A station that knows only pass and fail ships a unit only on `pass`.
+   */
   verdict: Verdict | null
+  /** Why the verdict is `retest` (null for any other verdict). */
+  retestReason: RetestReason | null
+  /** What happened and what to do, in the technician's words (shared/utils/verdict.ts RETEST_ADVICE); null unless `retest`. */
+  retestAdvice: RetestAdvice | null
+  /** Names of the checks decided outside their limits (undecided checks are not failures: see undecidedChecks). */
   failedChecks: string[]
+  /** Names of the checks that could not decide (figure missing, or its uncertainty straddles the limit). */
+  undecidedChecks: string[]
   uploadedAt: string
   finishedAt: string | null
   originalName: string
@@ -128,10 +139,19 @@ export interface RecordingCurves {
   maskImpedanceOhm: CurveLimit | null
 }
 
+/** A retest reason in the technician's words. */
+export interface RetestAdvice {
+  label: string
+  what: string
+  todo: string
+}
+
 export interface RecordingView extends RecordingSummary {
   parameters: ResultParameters | null
   checks: CheckView[]
   unmeasured: string[]
+  /** Things the station should look at that did not change the verdict (e.g. a level 1–6 dB off the profile). */
+  warnings: string[]
   notes: string[]
   thdAt: { hz: number; thdPct: number | null }[]
   flags: { polarity: 'normal' | 'inverted' | null; openCoil: boolean; shortedCoil: boolean; rubBuzz: boolean | null; [k: string]: unknown } | null
@@ -155,6 +175,8 @@ export interface ProductView {
   expectedRe20Ohm: number | null
   /** Warn when the golden units' mean Re differs from expectedRe20Ohm by more than this, %. */
   reWarnPct: number
+  /** After this many retests in a row a unit needs review (listed on its lot page). */
+  retestLimit: number
 }
 
 export interface StationView {
@@ -234,8 +256,9 @@ export interface MaskCandidate {
 export interface MaskPreview {
   maskId: number
   considered: number
-  draft: { pass: number; fail: number; yieldPct: number | null }
-  active: { maskId: number; version: number; pass: number; fail: number; yieldPct: number | null } | null
+  /** yieldPct: pass / (pass + fail); a retest decides nothing and is counted apart. */
+  draft: { pass: number; fail: number; retest: number; yieldPct: number | null }
+  active: { maskId: number; version: number; pass: number; fail: number; retest: number; yieldPct: number | null } | null
   /** Units whose verdict would change, newest first (at most 500 listed). */
   changed: { serial: string; recordingId: number; from: Verdict | null; to: Verdict; checks: string[] }[]
   changedTotal: number

@@ -1,5 +1,7 @@
 /** Response types of the quality pages (lots, lot report, dashboard, likely causes, alerts). */
 
+import type { RetestReason } from '../utils/verdict'
+
 export type ReportFigure = 'fsHz' | 're20Ohm' | 'qts' | 'sensitivityDb' | 'thdMaxPct'
 
 export interface LotSummary {
@@ -60,12 +62,35 @@ export interface ParetoRowView {
   likelyCauses: { failureClass: string; causes: string[] }[]
 }
 
+/** Units whose first result (the Pareto's basis) ended `retest` for one reason. */
+export interface RetestRowView {
+  reason: RetestReason
+  /** The reason in the technician's words (RETEST_ADVICE label). */
+  label: string
+  units: number
+  /** units / pareto.unitsConsidered. */
+  unitFraction: number
+}
+
+/** A unit that needs review: retests in a row since its latest decisive result, at least the product's limit. */
+export interface NeedsReviewUnit {
+  serial: string
+  retests: number
+  /** One reason per retest, newest first. */
+  reasons: RetestReason[]
+  lastTestAt: string
+  latestRecordingId: number
+}
+
 export interface LotReport {
   lot: { code: string; productCode: string; productName: string; createdAt: string; closedAt: string | null }
   maskVersion: number | null
   summary: {
     unitsTested: number
+    /** Units with a decisive (pass or fail) result. */
     unitsJudged: number
+    /** Units with a retest and no decisive result yet. */
+    unitsAwaitingRetest: number
     unitsNeverJudged: number
     firstPassYield: number | null
     finalYield: number | null
@@ -74,13 +99,28 @@ export interface LotReport {
     firstPassUnits: number
     finalPassUnits: number
     retestedUnits: number
+    /** Units whose first result ended `retest`: not a first pass, not a fail (see pareto.retests for the reasons). */
+    firstRetestUnits: number
     /** Returns from the field of the lot's units; returnRate = returnedUnits / unitsTested (return tests never count in the yields above). */
     returns: number
     returnedUnits: number
     returnRate: number | null
   }
-  /** basis `first`: each unit's first result (the first-pass yield's loss); unitsConsidered: units whose first result is judged. */
-  pareto: { basis: 'first' | 'final' | 'ever'; unitsConsidered: number; any: { units: number; fraction: number | null }; rows: ParetoRowView[] }
+  /**
+   * basis `first`: each unit's first result (the first-pass yield's loss); unitsConsidered: units
+   * whose first result is judged. Retests are counted apart from failing checks: `anyRetest` and
+   * `retests` (per reason), never among the rows.
+   */
+  pareto: {
+    basis: 'first' | 'final' | 'ever'
+    unitsConsidered: number
+    any: { units: number; fraction: number | null }
+    rows: ParetoRowView[]
+    anyRetest: { units: number; fraction: number | null }
+    retests: RetestRowView[]
+  }
+  /** Units whose latest results are retests, at least the product's retest limit in a row: for the engineers. */
+  needsReview: { retestLimit: number; units: NeedsReviewUnit[] }
   distributions: FigureDistribution[]
   drift: ControlChartView[]
   /** Why a drift chart is missing (too few units for control limits). */

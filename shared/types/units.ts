@@ -11,7 +11,7 @@ export interface UnitHit {
   lastTestedAt: string | null
   /** Recordings of the unit, return tests included. */
   tests: number
-  /** The verdict of its latest finished production (non-return) test. */
+  /** The unit's verdict: its latest finished production (non-return) test's, passing over retests (`retest` when all are). */
   verdict: Verdict | null
 }
 
@@ -51,11 +51,16 @@ export interface UnitView {
   serial: string
   product: ProductView
   lot: { code: string } | null
-  /** The verdict of the latest finished production (non-return) test. */
+  /**
+   * The unit's verdict: that of its latest finished production (non-return) test that is not a
+   * retest; `retest` when every such test so far ended retest (shared/utils/verdict.ts unitVerdictOf).
+   */
   verdict: Verdict | null
+  /** Retests since the unit's latest decisive result, and whether that reaches its product's retest limit. */
+  retests: { inARow: number; limit: number; needsReview: boolean }
   /** Every test newest first, return tests included (marked `returnTest`). */
   recordings: UnitTest[]
-  /** The latest finished production test: the one a test certificate states. */
+  /** The latest finished production test that is not a retest (else the latest): the one a test certificate states. */
   latestProductionId: number | null
   registeredAt: string
   /** What the product's current mask says of each result, beside its historic verdict (null without a released mask). */

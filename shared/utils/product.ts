@@ -3,6 +3,7 @@ import { plainText } from './input'
 import { codeSchema } from './ids'
 import { coilSchema, DEFAULT_RE_WARN_PCT } from './coil'
 import type { ProductView } from '../types/api'
+import { DEFAULT_RETEST_LIMIT, RETEST_LIMIT_MAX, RETEST_LIMIT_MIN } from './verdict'
 
 /** Rated impedance bounds: the column holds 6 digits with 2 decimals; real drivers sit between 1 and 600 Ω. */
 const ratedImpedanceSchema = z
@@ -20,6 +21,13 @@ const nominalSizeSchema = plainText().trim().max(20, 'nominal size may have at m
 /** How far the golden units' mean Re may stray from the coil's expected Re before a warning, %. */
 const reWarnPctSchema = z.number().min(1, 'the Re warning is at least 1 %').max(50, 'the Re warning is at most 50 %')
 
+/** After this many retests in a row a unit needs review (whole number, RETEST_LIMIT_MIN to RETEST_LIMIT_MAX). */
+const retestLimitSchema = z
+  .number({ error: 'the retest limit is a whole number' })
+  .int('the retest limit is a whole number')
+  .min(RETEST_LIMIT_MIN, `the retest limit is at least ${RETEST_LIMIT_MIN}`)
+  .max(RETEST_LIMIT_MAX, `the retest limit is at most ${RETEST_LIMIT_MAX}`)
+
 /** POST /api/products and the Products page's form. */
 export const productCreateSchema = z.object({
   code: codeSchema,
@@ -29,6 +37,7 @@ export const productCreateSchema = z.object({
   sensitivityBandHz: sensitivityBandSchema.optional(),
   coil: coilSchema.nullable().optional(),
   reWarnPct: reWarnPctSchema.default(DEFAULT_RE_WARN_PCT),
+  retestLimit: retestLimitSchema.default(DEFAULT_RETEST_LIMIT),
 })
 export type ProductCreateInput = z.input<typeof productCreateSchema>
 export type ProductCreate = z.output<typeof productCreateSchema>
@@ -46,6 +55,7 @@ export const productPatchSchema = z
     sensitivityBandHz: sensitivityBandSchema.optional(),
     coil: coilSchema.nullable().optional(),
     reWarnPct: reWarnPctSchema.optional(),
+    retestLimit: retestLimitSchema.optional(),
   })
   .refine((p) => Object.values(p).some((v) => v !== undefined), { message: 'nothing to change' })
 export type ProductPatchInput = z.input<typeof productPatchSchema>

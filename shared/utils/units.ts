@@ -1,6 +1,5 @@
 import { z } from 'zod'
 import { plainText } from './input'
-import type { Verdict } from './verdict'
 
 /** Shortest text the unit search takes (one character would list a whole factory). */
 export const SEARCH_MIN_CHARS = 2
@@ -153,15 +152,33 @@ export interface ParameterRow {
   /** The judging mask's bounds as shown ("–" when open or not judged). */
   low: string
   high: string
-  /** The check's outcome; null when the mask does not judge this figure. */
-  outcome: Verdict | null
+  /** The check's outcome (`undecided`: the check could not decide, no failure); null when the mask does not judge this figure. */
+  outcome: CheckOutcome | null
+}
+
+/** How one check came out: inside, outside, or undecided (its figure missing, or its uncertainty straddling the limit). */
+export type CheckOutcome = 'pass' | 'fail' | 'undecided'
+
+/** A check's outcome from its stored form (a check that could not decide has pass false and undecided true). */
+export function checkOutcome(c: { pass: boolean; undecided?: boolean }): CheckOutcome {
+  return c.undecided ? 'undecided' : c.pass ? 'pass' : 'fail'
+}
+
+/**
+ * A figure as read against its check: "below x" when it lies under the noise floor x (the check's
+ * value), "v ± u" when noise limits it (u at 95 % coverage), otherwise the figure alone.
+ */
+export function figureWithUncertainty(value: string, check: { value: number | null; below?: boolean; uncertainty?: number } | undefined): string {
+  if (check?.below && check.value !== null) return `below ${figureText(check.value)}`
+  if (check?.uncertainty !== undefined && Number.isFinite(check.uncertainty) && value !== '–') return `${value} ± ${figureText(check.uncertainty, 2)}`
+  return value
 }
 
 /** One test's figures beside the limits of the mask that judged it (the unit page and the certificate show the same rows). */
 export function parameterRows(
   parameters: Record<string, unknown> | null,
   flags: { polarity?: 'normal' | 'inverted' | null } | null,
-  checks: { name: string; low: number | null; high: number | null; pass: boolean }[],
+  checks: { name: string; value: number | null; low: number | null; high: number | null; pass: boolean; undecided?: boolean; below?: boolean; uncertainty?: number }[],
 ): ParameterRow[] {
   return UNIT_PARAMETERS.map((p) => {
     const check = p.check ? checks.find((c) => c.name === p.check) : undefined
@@ -174,10 +191,10 @@ export function parameterRows(
       key: p.key,
       label: rawRe ? 'Re (ambient not given)' : p.label,
       unit: p.unit,
-      value,
+      value: polarity ? value : figureWithUncertainty(value, check),
       low: polarity ? (check ? 'normal' : '–') : figureText(check?.low),
       high: polarity ? '–' : figureText(check?.high),
-      outcome: check ? (check.pass ? 'pass' : 'fail') : null,
+      outcome: check ? checkOutcome(check) : null,
     }
   })
 }

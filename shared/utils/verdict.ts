@@ -47,3 +47,38 @@ export const RETEST_ADVICE: Record<RetestReason, { label: string; what: string; 
     todo: 'Check that the unit is seated and connected, then measure again.',
   },
 }
+
+/** Whether a verdict decides the unit (pass or fail); `retest` and no verdict yet do not. */
+export function isDecisive(v: Verdict | null | undefined): v is DecisiveVerdict {
+  return v === 'pass' || v === 'fail'
+}
+
+/**
+ * A unit's verdict from the verdicts of its finished production results, newest first: retests are
+ * passed over (they decide nothing), so it is the latest other result's verdict (`pass`, `fail`, or
+ * null when that result is not judged yet); `retest` when every judged result so far is a retest.
+ */
+export function unitVerdictOf(newestFirst: readonly (Verdict | null)[]): Verdict | null {
+  const standing = newestFirst.find((v) => v !== 'retest')
+  if (standing !== undefined) return standing
+  return newestFirst.length ? 'retest' : null
+}
+
+/**
+ * Retests in a row at the newest end of a unit's production results (newest first): the retests
+ * since its latest decisive result. Unjudged results (no mask yet) neither count nor break the run.
+ */
+export function retestsInARow(newestFirst: readonly (Verdict | null)[]): number {
+  let n = 0
+  for (const v of newestFirst) {
+    if (isDecisive(v)) break
+    if (v === 'retest') n++
+  }
+  return n
+}
+
+/** Default of a product's retest limit: after this many retests in a row a unit needs review (our choice). */
+export const DEFAULT_RETEST_LIMIT = 2
+/** Bounds of a product's retest limit (the products.retest_limit check). */
+export const RETEST_LIMIT_MIN = 1
+export const RETEST_LIMIT_MAX = 10

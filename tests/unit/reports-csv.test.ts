@@ -54,6 +54,8 @@ const base: LotUnitRow = {
   thdMaxPct: 1.2,
   rubBuzzDb: -62.5,
   returns: 0,
+  retests: 0,
+  retestReasons: [],
 }
 
 describe('lotUnitsCsv', () => {
@@ -61,9 +63,18 @@ describe('lotUnitsCsv', () => {
     const csv = lotUnitsCsv([base, { ...base, serial: 'AB12-000124', tests: 1, firstVerdict: 'fail', finalVerdict: 'fail', failedChecks: ['polarity', 'fsHz'], fsHz: null, returns: 2 }])
     const lines = csv.split('\r\n')
     expect(lines[0]).toBe(CSV_COLUMNS.join(','))
-    expect(lines[1]).toBe('AB12-000123,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,2,fail,pass,,41.25,5.8,0.42,87.1,1.2,-62.5,0')
-    expect(lines[2]).toBe('AB12-000124,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,1,fail,fail,polarity fsHz,,5.8,0.42,87.1,1.2,-62.5,2')
+    expect(lines[1]).toBe('AB12-000123,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,2,fail,pass,,41.25,5.8,0.42,87.1,1.2,-62.5,0,0,')
+    expect(lines[2]).toBe('AB12-000124,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,1,fail,fail,polarity fsHz,,5.8,0.42,87.1,1.2,-62.5,2,0,')
     expect(lines).toHaveLength(3)
+  })
+
+  it('keeps the columns it had before the retest verdict in place, and adds the retests and their reasons after them', () => {
+    expect(CSV_COLUMNS.slice(0, 16)).toEqual([
+      'serial', 'product', 'lot', 'first_test_at', 'last_test_at', 'tests', 'first_verdict', 'final_verdict', 'failed_checks',
+      'fs_hz', 're20_ohm', 'qts', 'sensitivity_db', 'thd_max_pct', 'rub_buzz_db', 'returns',
+    ])
+    const csv = lotUnitsCsv([{ ...base, tests: 3, firstVerdict: 'retest', finalVerdict: 'retest', retests: 3, retestReasons: ['transient', 'hum', 'hum'] }])
+    expect(csv.split('\r\n')[1]).toBe('AB12-000123,W525-8,L2611-07,2026-12-01T08:00:00.000Z,2026-12-01T08:05:00.000Z,3,retest,retest,,41.25,5.8,0.42,87.1,1.2,-62.5,0,3,transient hum hum')
   })
 
   it('neutralises formula starts in text cells and quotes commas, quotes and line breaks (RFC 4180)', () => {

@@ -117,7 +117,10 @@ const TEST: RecordingView = {
   kind: 'sweep',
   status: 'done',
   verdict: 'fail',
+  retestReason: null,
+  retestAdvice: null,
   failedChecks: ['fsHz', 'polarity'],
+  undecidedChecks: [],
   uploadedAt: '2026-11-26T09:41:07.000Z',
   finishedAt: '2026-11-26T09:41:08.000Z',
   originalName: 'unit.wav',
@@ -132,6 +135,7 @@ const TEST: RecordingView = {
     { name: 'splDb', value: 0, low: null, high: null, unit: 'dB', pass: true },
   ],
   unmeasured: [],
+  warnings: [],
   notes: [],
   thdAt: [],
   flags: { polarity: 'inverted', openCoil: false, shortedCoil: false, rubBuzz: false },
@@ -157,9 +161,10 @@ describe('parameter rows (unit page and certificate)', () => {
 describe('certificate PDF', () => {
   const unit = {
     serial: TEST.serial,
-    product: { id: 1, code: 'W165-4', name: 'Invented 6.5 in woofer', ratedImpedanceOhm: 4, nominalSize: '6.5 in', sensitivityBandHz: [300, 3000], activeMaskId: 3, coil: null, expectedRe20Ohm: null, reWarnPct: 5 },
+    product: { id: 1, code: 'W165-4', name: 'Invented 6.5 in woofer', ratedImpedanceOhm: 4, nominalSize: '6.5 in', sensitivityBandHz: [300, 3000], activeMaskId: 3, coil: null, expectedRe20Ohm: null, reWarnPct: 5, retestLimit: 2 },
     lot: { code: 'L-2611-03' },
     verdict: 'fail',
+    retests: { inARow: 0, limit: 2, needsReview: false },
     recordings: [],
     latestProductionId: 42,
     registeredAt: '2026-11-26T09:41:07.000Z',
@@ -189,5 +194,14 @@ describe('certificate PDF', () => {
     expect(text).toContain('no mask was released')
     expect(text).not.toContain('Frequency response')
     expect(utcStamp('2026-01-05T23:59:59.999Z')).toBe('2026-01-05 23:59 UTC')
+  })
+
+  it('states RETEST for a unit whose tests all ended retest, and "undecided" beside a check that could not decide, never FAIL', async () => {
+    const undecided = { ...TEST, verdict: 'retest' as const, retestReason: 'noise' as const, failedChecks: [], undecidedChecks: ['fsHz'], checks: [{ ...TEST.checks[0]!, undecided: true }, TEST.checks[1]!] }
+    const pdf = await renderCertificatePdf({ unit: { ...unit, verdict: 'retest' }, test: undecided, curves: null, issuedAt: '2026-12-02T10:00:00.000Z' })
+    const { text } = await new PDFParse({ data: pdf }).getText()
+    expect(text).toContain('RETEST')
+    expect(text).toMatch(/Fs 61\.3 Hz 45\.0 60\.0 undecided/)
+    expect(text).not.toContain('FAIL')
   })
 })

@@ -108,6 +108,13 @@ describe('failure Pareto', () => {
   })
 
   it('is empty, with a null "any" fraction, when nothing was judged', () => {
-    expect(failurePareto([unit('E', unjudged)])).toEqual({ basis: 'first', unitsConsidered: 0, any: { units: 0, unitFraction: null }, rows: [] })
+    expect(failurePareto([unit('E', unjudged)])).toEqual({
+      basis: 'first',
+      unitsConsidered: 0,
+      any: { units: 0, unitFraction: null },
+      rows: [],
+      anyRetest: { units: 0, unitFraction: null },
+      retests: [],
+    })
   })
 })
