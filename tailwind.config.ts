@@ -20,7 +20,7 @@ export default {
         ink: { DEFAULT: '#141c24', soft: '#3b4754', faint: '#6b7785' },
         copper: { DEFAULT: '#a8541f', light: '#f3e2d3', dark: '#7a3a12' },
         steel: { DEFAULT: '#4c5d6e', light: '#d9dfe5' },
-        verdict: { pass: '#0a6b36', passBg: '#dff3e6', fail: '#a3160e', failBg: '#fbe1de', none: '#5c5f66' },
+        verdict: { pass: '#0a6b36', passBg: '#dff3e6', fail: '#a3160e', failBg: '#fbe1de', none: '#5c5f66', retest: '#1d4a85', retestBg: '#e2ebf7' },
       },
       fontFamily: {
         sans: ['"Source Sans 3"', ...defaultTheme.fontFamily.sans],

@@ -1,5 +1,6 @@
 import type { CheckView, RecordingSummary } from '#shared/types/api'
 import { CHECK_LABELS } from '#shared/utils/mask'
+import type { CheckOutcome } from '#shared/utils/units'
 import type { Verdict } from '#shared/utils/verdict'
 
 /** What the bench shows for one recording: the verdict once judged, otherwise where it stands. */
@@ -16,6 +17,12 @@ export function benchStateOf(r: Pick<RecordingSummary, 'status' | 'verdict'>): B
 export const BENCH_STATES: Record<BenchState, { word: string; short: string; hint: string; tone: string }> = {
   pass: { word: 'PASS', short: 'Pass', hint: 'Every check is inside the mask.', tone: 'text-verdict-pass bg-verdict-passBg border-verdict-pass' },
   fail: { word: 'FAIL', short: 'Fail', hint: 'Set the unit aside for rework.', tone: 'text-verdict-fail bg-verdict-failBg border-verdict-fail' },
+  retest: {
+    word: 'RETEST',
+    short: 'Retest',
+    hint: 'This recording could not decide: not a fail. Measure the unit again (see what to do).',
+    tone: 'text-verdict-retest bg-verdict-retestBg border-verdict-retest',
+  },
   unjudged: {
     word: 'NOT JUDGED',
     short: 'Not judged',
@@ -41,6 +48,22 @@ export function checkLabel(name: string): string {
   return CHECK_LABELS[name]?.label ?? name
 }
 
+/** A check that could not decide, shown like a state (word, icon, tone): never as a fail. */
+export const UNDECIDED_STATE = {
+  word: 'COULD NOT DECIDE',
+  short: 'Could not decide',
+  hint: 'The figure is missing, or its uncertainty straddles the limit.',
+  tone: 'text-verdict-retest bg-verdict-retestBg border-verdict-retest',
+}
+
+/** Word, hint and tone of a state, or of a check that could not decide. */
+export function stateMeta(state: BenchState | 'undecided'): (typeof BENCH_STATES)[BenchState] {
+  return state === 'undecided' ? UNDECIDED_STATE : BENCH_STATES[state]
+}
+
+/** How a check came out, as the check tables word it: never "out" for a check that could not decide. */
+export const CHECK_OUTCOME_WORDS: Record<CheckOutcome, string> = { pass: 'ok', fail: 'out', undecided: 'could not decide' }
+
 /** The failure in plain words, for the technician at the line. */
 export function checkPlain(name: string): string {
   return CHECK_LABELS[name]?.plain ?? `${checkLabel(name)} out of limits`
@@ -55,16 +78,22 @@ export function formatFigure(v: unknown, digits = 3): string {
   return v.toFixed(decimals)
 }
 
-/** The measured side of a check as the table shows it (polarity and curve checks read differently). */
+/**
+ * The measured side of a check as the table shows it (polarity and curve checks read differently):
+ * "below x" for a figure under its noise floor x, "v ± u" where noise limits it.
+ */
 export function checkValueText(c: CheckView): string {
   if (c.name === 'resonance') return 'none found'
-  // A figure the file should have given but did not: the check fails without a value.
+  // A figure the file should have given but did not: the check cannot decide (or fails) without a value.
   if (c.value === null && !c.pass && c.name !== 'coil') return 'not measured'
   if (c.name === 'polarity') return c.value === 1 ? 'normal' : c.value === -1 ? 'inverted' : '–'
   if (c.name === 'splDb' || c.name === 'impedanceOhm') {
     const over = c.value !== null && c.value > 0 ? `${formatFigure(c.value)} over` : 'inside'
-    return c.atHz ? `${over} at ${formatFigure(c.atHz)} Hz` : over
+    const text = c.atHz ? `${over} at ${formatFigure(c.atHz)} Hz` : over
+    return c.uncertainty !== undefined ? `${text} (± ${formatFigure(c.uncertainty, 2)})` : text
   }
+  if (c.below) return `below ${formatFigure(c.value)}`
+  if (c.uncertainty !== undefined && Number.isFinite(c.uncertainty)) return `${formatFigure(c.value)} ± ${formatFigure(c.uncertainty, 2)}`
   return formatFigure(c.value)
 }
 

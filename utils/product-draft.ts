@@ -1,5 +1,6 @@
 import type { CoilInput } from '#shared/utils/coil'
 import type { ProductListItem, ProductCreateInput } from '#shared/utils/product'
+import { DEFAULT_RETEST_LIMIT } from '#shared/utils/verdict'
 
 /** What the coil fields hold while the engineer types (number inputs give '' when empty). */
 export interface CoilDraft {
@@ -20,6 +21,7 @@ export interface ProductDraft {
   bandLowHz: number | ''
   bandHighHz: number | ''
   reWarnPct: number | ''
+  retestLimit: number | ''
   hasCoil: boolean
   coil: CoilDraft
 }
@@ -36,6 +38,7 @@ export function newProductDraft(): ProductDraft {
     bandLowHz: 300,
     bandHighHz: 3000,
     reWarnPct: 10,
+    retestLimit: DEFAULT_RETEST_LIMIT,
     hasCoil: false,
     coil: { awg: 31, by: 'turns', turns: '', meanDiameterMm: '', lengthM: '', layers: 4, strands: 1 },
   }
@@ -51,6 +54,7 @@ export function draftOfProduct(p: ProductListItem): ProductDraft {
     bandLowHz: p.sensitivityBandHz[0],
     bandHighHz: p.sensitivityBandHz[1],
     reWarnPct: p.reWarnPct,
+    retestLimit: p.retestLimit,
     hasCoil: c !== null,
     coil: c
       ? { awg: c.awg, by: c.lengthM !== undefined ? 'length' : 'turns', turns: c.turns ?? '', meanDiameterMm: c.meanDiameterMm ?? '', lengthM: c.lengthM ?? '', layers: c.layers, strands: c.strands }
@@ -76,5 +80,6 @@ export function bodyOfDraft(d: ProductDraft): ProductCreateInput {
     sensitivityBandHz: low === undefined && high === undefined ? undefined : [low!, high!],
     coil: d.hasCoil ? coilOfDraft(d.coil) : null,
     reWarnPct: num(d.reWarnPct),
+    retestLimit: num(d.retestLimit),
   }
 }
