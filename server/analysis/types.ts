@@ -108,6 +108,8 @@ export interface AnalysisFlags {
 
 export interface AnalysisTimings {
   validate: number
+  /** DC removal (absent in results made before it existed). */
+  condition?: number
   deconvolve: number
   impedance: number
   fit: number

@@ -1,15 +1,13 @@
 import { AnalysisInputError } from './errors.ts'
+import { NYQUIST_USABLE_FRACTION } from './constants.ts'
 import type { ChannelRole, StationProfile } from '../../shared/utils/station-profile.ts'
 import { decodeFrames, parseWavLayout, readWavLayout, type ByteSource, type SampleEncoding, type WavLayout } from './wav-reader.ts'
 
 /** Accepted station sample rates (stations differ; any common audio rate from 44.1 to 192 kHz is fine). */
 export const MIN_SAMPLE_RATE_HZ = 44_100
 export const MAX_SAMPLE_RATE_HZ = 192_000
-/**
- * The sweep's top must stay below this fraction of the Nyquist frequency, leaving room for the
- * converter's anti-alias transition band (common practice: such filters start near 0.45·fs).
- */
-export const NYQUIST_USABLE_FRACTION = 0.95
+/** The sweep's top must stay below this fraction of fs/2 (the reason is in constants.ts). */
+export { NYQUIST_USABLE_FRACTION }
 /** A sample at or beyond this fraction of full scale counts as full scale. */
 export const CLIP_THRESHOLD = 0.999
 /** Consecutive full-scale samples that make a clip (common practice: one full-scale sample may be a legal peak). */
