@@ -1,7 +1,9 @@
 /**
  * Benchmark of the measurement engine: a 3-channel, 48 kHz, 1.35 s, 24-bit recording analysed
- * many times. Prints the median ms per recording, the ms of one real FFT of the padded length,
- * their ratio, and ends with `analysis median_ms=<x> fft_ms=<y> ratio=<z>`.
+ * many times. Prints the median ms per recording, the median ms of each stage (the result's
+ * timingsMs: validate, condition, deconvolve, impedance, fit, response, distortion, rubBuzz, total;
+ * see server/analysis/analyze.ts), the ms of one real FFT of the padded length, their ratio, and
+ * ends with `analysis median_ms=<x> fft_ms=<y> ratio=<z>`.
  */
 import { analyzeRecording, DEFAULT_PROFILE, nextPowerOfTwo, rfft } from '../server/analysis/index.ts'
 import { generateRecording } from '../fixtures/generator.ts'
