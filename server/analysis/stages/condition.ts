@@ -10,8 +10,8 @@
  * silence before and after the sweep, wherever the sweep lies in the recording), then subtracted
  * from every frame the analysis reads. Not the mean over all frames: that would also take out the
  * signal's own mean (an exponential sweep's slow start leaves one, and so does a unit's even-order
- * distortion), a rectangular pulse of its own that moved Fs on clean recordings by more than
- * 0.5 %. Over the silence the signal is zero, so a clean recording comes out unchanged and one
+ * distortion), a rectangular pulse of its own that moved Fs on the clean reference recordings
+ * by about 0.4 % and Qms by about 1 %. Over the silence the signal is zero, so a clean recording comes out unchanged and one
  * with an offset comes out as its clean twin. Mains hum in the silence averages out over the
  * quiet blocks (its mean over T seconds is at most 1/(π·f·T) of its amplitude).
  *
