@@ -32,8 +32,14 @@ export const DC_QUIET_SPREAD = 100
 export const DC_SILENCE_BELOW = 0.01
 
 /**
- * The channel's DC offset over x[0, n): the mean of its quiet blocks when it has silence, else the
- * mean of all n frames.
+ * An offset estimated within this many standard errors of zero (the noise's own mean over the
+ * silence) is not told apart from none (common practice: three standard errors).
+ */
+export const DC_SIGNIFICANT_SE = 3
+
+/**
+ * The channel's DC offset over x[0, n): the mean of its quiet blocks when it has silence (0 when
+ * that is within DC_SIGNIFICANT_SE standard errors of zero), else the mean of all n frames.
  */
 export function estimateDc(x: Float64Array, n: number, blockLen: number): number {
   const len = Math.min(n, x.length)
@@ -45,13 +51,38 @@ export function estimateDc(x: Float64Array, n: number, blockLen: number): number
   let total = 0
   let totalSq = 0
   for (let k = 0; k < blocks; k++) {
-    let s = 0
-    let q = 0
-    for (let i = k * B, end = i + B; i < end; i++) {
-      const v = x[i]!
-      s += v
-      q += v * v
+    // Four accumulators each: independent adds keep the loop off one dependency chain (speed).
+    let s0 = 0
+    let s1 = 0
+    let s2 = 0
+    let s3 = 0
+    let q0 = 0
+    let q1 = 0
+    let q2 = 0
+    let q3 = 0
+    const end = (k + 1) * B
+    let i = k * B
+    for (; i + 3 < end; i += 4) {
+      const a = x[i]!
+      const b = x[i + 1]!
+      const c = x[i + 2]!
+      const d = x[i + 3]!
+      s0 += a
+      s1 += b
+      s2 += c
+      s3 += d
+      q0 += a * a
+      q1 += b * b
+      q2 += c * c
+      q3 += d * d
     }
+    for (; i < end; i++) {
+      const v = x[i]!
+      s0 += v
+      q0 += v * v
+    }
+    const s = s0 + s1 + s2 + s3
+    const q = q0 + q1 + q2 + q3
     sums[k] = s
     const m = s / B
     vars[k] = Math.max(0, q / B - m * m)
@@ -70,14 +101,21 @@ export function estimateDc(x: Float64Array, n: number, blockLen: number): number
   // A tiny absolute floor so exactly silent blocks (variance 0 up to rounding) all count.
   const limit = DC_QUIET_SPREAD * minVar + 1e-15 * variance
   let s = 0
+  let v = 0
   let count = 0
   for (let k = 0; k < blocks; k++) {
     if (vars[k]! <= limit) {
       s += sums[k]!
+      v += vars[k]!
       count += B
     }
   }
-  return count > 0 ? s / count : mean
+  if (count === 0) return mean
+  const dc = s / count
+  // An offset within DC_SIGNIFICANT_SE standard errors of the silence's own noise mean is no offset:
+  // left alone, which spares the clean recording its subtraction pass.
+  const standardError = Math.sqrt((v * B) / count / count)
+  return Math.abs(dc) > DC_SIGNIFICANT_SE * standardError ? dc : 0
 }
 
 /** Subtracts `dc` from x[0, n) in place. */

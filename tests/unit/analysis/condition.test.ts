@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest'
 import { analyzeRecording, DEFAULT_PROFILE, generateSweep, type AnalysisResult } from '../../../server/analysis/index.ts'
 import { estimateDc } from '../../../server/analysis/stages/condition.ts'
-import { encodeWav, simulateStation } from '../../../fixtures/generator.ts'
+import { encodeWav, gaussian, mulberry32, simulateStation } from '../../../fixtures/generator.ts'
 import { relErr } from './helpers.ts'
 
 /** The station's WAV file of a simulated good unit, with `dc` (fraction of full scale) added to one channel. */
@@ -71,6 +71,18 @@ describe('estimateDc: the offset from the channel’s silence, not from its sign
 
   it('reads 0 on a clean channel, so a recording without an offset is left as it was', () => {
     expect(estimateDc(withOffset(0), n, blockLen)).toBe(0)
+  })
+
+  it('leaves an offset within the noise’s own mean alone, and finds one above it', () => {
+    const noise = gaussian(mulberry32(7))
+    const noisy = (dc: number): Float64Array => {
+      const x = withOffset(dc)
+      for (let i = 0; i < n; i++) x[i]! += 1e-4 * noise()
+      return x
+    }
+    // 1e-4 RMS noise over ~17 000 silent frames: a standard error near 8e-7.
+    expect(estimateDc(noisy(0), n, blockLen)).toBe(0)
+    expect(Math.abs(estimateDc(noisy(1e-3), n, blockLen) - 1e-3)).toBeLessThan(5e-6)
   })
 
   it('averages mains hum in the silence out (60 Hz at 10 % of the offset moves it by under 1 %)', () => {
