@@ -38,11 +38,16 @@ function footer(doc: Doc, report: LotReport, page: number) {
   line(doc, `Conetrail lot report ${report.lot.code} · generated ${report.generatedAt} · page ${page} of ${LOT_REPORT_PAGES}`, PAGE.margin, PAGE.height - 36, PAGE.width - 2 * PAGE.margin, 8, MUTED)
 }
 
-/** "2 units (3.3 %): Mains hum 1, Disturbed by a knock 1", or "none". */
+/** "2 units (3.3 %)", or "none". */
 function retestLine(r: LotReport): string {
   const p = r.pareto
-  if (!p.anyRetest.units) return 'none'
-  return `${p.anyRetest.units} units (${pct(p.anyRetest.fraction)}): ${p.retests.map((x) => `${x.label} ${x.units}`).join(', ')}`
+  return p.anyRetest.units ? `${p.anyRetest.units} units (${pct(p.anyRetest.fraction)})` : 'none'
+}
+
+/** "2 units: SN-1 (2), SN-7 (3)", the count first so it survives a cut, or "none". */
+function reviewLine(r: LotReport): string {
+  const u = r.needsReview.units
+  return u.length ? `${u.length} units: ${u.map((x) => `${x.serial} (${x.retests})`).join(', ')}` : 'none'
 }
 
 function summaryPage(doc: Doc, r: LotReport) {
@@ -63,13 +68,18 @@ function summaryPage(doc: Doc, r: LotReport) {
     ['Return rate', `${pct(s.returnRate)} (${s.returnedUnits} units returned, ${s.returns} returns)`],
     // Retests are not failures: counted apart from the Pareto of failing checks below.
     ['First result: retest', retestLine(r)],
-    [`Needs review (${r.needsReview.retestLimit}+ retests in a row)`, r.needsReview.units.length ? r.needsReview.units.map((u) => `${u.serial} (${u.retests})`).join(', ') : 'none'],
+    [`Needs review (${r.needsReview.retestLimit}+ retests in a row)`, reviewLine(r)],
   ]
   let y = 120
   for (const [k, v] of rows) {
     line(doc, k, x, y, 200, 11, MUTED)
     line(doc, v, x + 210, y, w - 210, 11, INK, 'Helvetica-Bold')
     y += 18
+  }
+  // Reasons on a line of their own, the width of the page: all six fit at this size.
+  if (r.pareto.retests.length) {
+    line(doc, `Retest reasons (first results, not failures): ${r.pareto.retests.map((x) => `${x.label} ${x.units}`).join(', ')}`, x, y, w, 9, MUTED)
+    y += 14
   }
   y += 16
   line(doc, `Failures by check (each unit's first result; ${r.pareto.any.units} of ${r.pareto.unitsConsidered} units failed at least one check, ${pct(r.pareto.any.fraction)})`, x, y, w, 12, INK, 'Helvetica-Bold')
