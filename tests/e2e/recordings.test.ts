@@ -118,14 +118,16 @@ describe('upload, analysis and verdict', () => {
     expect(rec.failedChecks[0]).toBe(check)
   })
 
-  it('refuses a sweep whose microphone heard nothing from a unit that draws current: not_measured, no result', async () => {
+  it('stores a sweep whose microphone heard nothing from a unit that draws current as a retest (undecided), never a pass or a fail', async () => {
     const serial = unique('MUTE')
     const up = await postRecording(host, tech, { serial, product: product.code, station: station.id }, { bytes: generateRecording({ seed: 131, memorylessPressure: () => 0, noiseDbfs: -70 }), name: 'mute.wav' })
     expect(up.status).toBe(202)
     const rec = await waitFinished(host, tech, up.body.id)
-    expect(rec).toMatchObject({ status: 'rejected', verdict: null, error: { code: 'not_measured' } })
-    expect(rec.error!.message).toMatch(/Polarity.*measure the unit again/)
-    expect(await testDb()('results').where({ recording_id: up.body.id })).toHaveLength(0)
+    // Since issue 14 a sweep that cannot decide is kept as a retest (measure again), no longer refused.
+    expect(rec).toMatchObject({ status: 'done', verdict: 'retest', retestReason: 'undecided', error: null, failedChecks: [] })
+    expect(rec.undecidedChecks).toContain('polarity')
+    expect(rec.retestAdvice?.todo).toMatch(/measure again/)
+    expect(await testDb()('results').where({ recording_id: up.body.id }).first('verdict', 'retest_reason')).toEqual({ verdict: 'retest', retest_reason: 'undecided' })
   })
 
   it('keeps a result unjudged (verdict null, status done) while the product has no released mask', async () => {
