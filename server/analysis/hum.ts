@@ -25,7 +25,7 @@ const MIN_QUIET_CYCLES = 4
  */
 export const HUM_DETECT_POWER_RATIO = 100
 /** The cheap first test: this much of the longest quiet span, these orders, this threshold (10 dB). */
-const PRETEST_S = 0.2
+const PRETEST_S = 0.1
 const PRETEST_ORDERS = [1, 3] as const
 const PRETEST_POWER_RATIO = 10
 
@@ -150,13 +150,13 @@ export function findHum(x: Float64Array, spans: readonly QuietSpan[], fs: number
   const usable = spans.filter((s) => s.end > s.start)
   const n = usable.reduce((a, s) => a + s.end - s.start, 0)
   if (n < (MIN_QUIET_CYCLES * fs) / MAINS_HZ[0]) return null
+  if (!humLikely(x, usable, fs)) return null
   let energy = 0
   for (const s of usable) for (let i = s.start; i < s.end; i++) energy += x[i]! * x[i]!
   if (!(energy > 0)) return null
   // A fit of white noise explains about 2 samples' worth of its power per line, so a real hum's
   // share stands far above that.
   const chance = (2 * HUM_HARMONICS.length * energy) / n
-  if (!humLikely(x, usable, fs)) return null
   let best: { f0: number; power: number } | null = null
   for (const nominal of MAINS_HZ) {
     const coarse = bestBetween(x, usable, fs, nominal - HUM_SEARCH_HZ, nominal + HUM_SEARCH_HZ, COARSE_STEP_HZ)
