@@ -10,6 +10,8 @@ import { standardGrid } from './grid.ts'
 import type { ClassicalResult, FitResult } from './small-signal.ts'
 import type { AnalysisCurves, AnalysisFlags, AnalysisParameters, AnalysisTimings, AnalyzeOptions, PerChannel, ThdAtPoint } from './types.ts'
 import type { ChannelStats, ValidatedRecording } from './validate.ts'
+import type { PlayedStimulus } from './level.ts'
+import type { NoiseSpectrum } from './noise-floor.ts'
 import {
   ANALYSIS_NYQUIST_FRACTION,
   DEFAULT_SENSITIVITY_BAND_HZ,
@@ -47,9 +49,10 @@ export interface SweepSpectra {
   P: Float64Array | null
   /** Sense-resistor voltage (the current × R). */
   Xs: Float64Array | null
-  /** Terminal voltage (recorded, or the regenerated stimulus minus the sense voltage). */
-  Xd: Float64Array | null
-  /** The amplifier's output: the stimulus as played (drive + sense, or regenerated). */
+  /**
+   * The amplifier's output: the stimulus as played (drive + sense, or regenerated). The terminal
+   * voltage's spectrum is Xa − Xs (the transform is linear), read so where it is needed.
+   */
   Xa: Float64Array
 }
 
@@ -71,6 +74,8 @@ export interface AcousticResponse {
   Ha: Float64Array
   /** Index in `ha` of the linear impulse's peak (the acoustic delay). */
   peakIdx: number
+  /** The noise `ha` carries, by band (noise-floor.ts); null when the response has no room for its window. */
+  noise: NoiseSpectrum | null
 }
 
 export interface SweepContext {
@@ -91,6 +96,8 @@ export interface SweepContext {
   readonly freqHz: number[]
   readonly windows: SweepWindows
   // ---- built by the stages ----
+  /** condition: the stimulus as played (the amplifier's output), null without a drive channel. */
+  played: PlayedStimulus | null
   /** diagnose (coil continuity): the coil is open or shorted, so nothing electrical or acoustic is measured. */
   unitDead: boolean
   /** deconvolve */
@@ -205,6 +212,7 @@ export function createSweepContext(v: ValidatedRecording, profile: StationProfil
     freqHz,
     windows: sweepWindows(profile, fs, N),
     unitDead: false,
+    played: null,
     spectra: null,
     admittance: null,
     fit: null,

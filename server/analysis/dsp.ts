@@ -1,28 +1,30 @@
 /** Small signal-processing helpers the stages share: spectral division, windows, phase wrapping. */
 import { REGULARISATION, TAPER_FRACTION } from './constants.ts'
 
-/** Y·conj(X) / (|X|² + ε): regularised spectral division of two interleaved spectra. */
-export function divide(Y: Float64Array, X: Float64Array): Float64Array {
+/**
+ * Y·conj(X) / (|X|² + ε): regularised spectral division of two interleaved spectra. With `minus`,
+ * X − minus stands for X (the difference is never stored).
+ */
+export function divide(Y: Float64Array, X: Float64Array, minus?: Float64Array): Float64Array {
+  const B = minus ?? null
   let maxP = 0
-  for (let i = 0; i < X.length; i += 2) maxP = Math.max(maxP, X[i]! * X[i]! + X[i + 1]! * X[i + 1]!)
+  for (let i = 0; i < X.length; i += 2) {
+    const xr = B ? X[i]! - B[i]! : X[i]!
+    const xi = B ? X[i + 1]! - B[i + 1]! : X[i + 1]!
+    const p = xr * xr + xi * xi
+    if (p > maxP) maxP = p
+  }
   const eps = REGULARISATION * maxP
   const out = new Float64Array(Y.length)
   for (let i = 0; i < X.length; i += 2) {
-    const xr = X[i]!
-    const xi = X[i + 1]!
+    const xr = B ? X[i]! - B[i]! : X[i]!
+    const xi = B ? X[i + 1]! - B[i + 1]! : X[i + 1]!
     const yr = Y[i]!
     const yi = Y[i + 1]!
-    const d = xr * xr + xi * xi + eps
-    out[i] = (yr * xr + yi * xi) / d
-    out[i + 1] = (yi * xr - yr * xi) / d
+    const inv = 1 / (xr * xr + xi * xi + eps)
+    out[i] = (yr * xr + yi * xi) * inv
+    out[i + 1] = (yi * xr - yr * xi) * inv
   }
-  return out
-}
-
-/** a + sign·b, element by element. */
-export function addSpectra(a: Float64Array, b: Float64Array, sign = 1): Float64Array {
-  const out = new Float64Array(a.length)
-  for (let i = 0; i < a.length; i++) out[i] = a[i]! + sign * b[i]!
   return out
 }
 
@@ -39,18 +41,44 @@ export function halfHann(i: number, n: number): number {
 export function cutWindow(h: Float64Array, origin: number, preSamples: number, postSamples: number, M: number): Float64Array {
   const N = h.length
   const out = new Float64Array(M)
-  const taperPre = Math.max(1, Math.round(preSamples * TAPER_FRACTION * 2))
-  const taperPost = Math.max(1, Math.round(postSamples * TAPER_FRACTION))
+  const shape = windowShape(preSamples, postSamples)
+  let src = (((origin - preSamples) % N) + N) % N
+  let dst = (((-preSamples) % M) + M) % M
   for (let i = -preSamples; i < postSamples; i++) {
+    out[dst] = h[src]! * shape(i)
+    if (++src === N) src = 0
+    if (++dst === M) dst = 0
+  }
+  return out
+}
+
+/**
+ * Sum of the squared weights of cutWindow's window: the share of white noise it lets through. In
+ * closed form: a half-Hann taper of T ≥ 2 samples, w_j = (1 − cos(πj/T))/2, has Σw² = 3T/8 − 1/2,
+ * since Σcos(πj/T) = 1 and Σcos(2πj/T) = 0 over j = 0…T−1 (geometric sums of e^{iπj/T}).
+ */
+export function windowEnergy(preSamples: number, postSamples: number): number {
+  const { taperPre, taperPost } = tapers(preSamples, postSamples)
+  const taperEnergy = (t: number) => (t >= 2 ? (3 * t) / 8 - 0.5 : 0)
+  return preSamples + postSamples - taperPre - taperPost + taperEnergy(taperPre) + taperEnergy(taperPost)
+}
+
+/** Lengths of cutWindow's tapers ahead of and after the impulse. */
+function tapers(preSamples: number, postSamples: number): { taperPre: number; taperPost: number } {
+  return { taperPre: Math.max(1, Math.round(preSamples * TAPER_FRACTION * 2)), taperPost: Math.max(1, Math.round(postSamples * TAPER_FRACTION)) }
+}
+
+/** cutWindow's weight at sample i (−pre ≤ i < post): flat, with half-Hann tapers at both ends. */
+function windowShape(preSamples: number, postSamples: number): (i: number) => number {
+  const { taperPre, taperPost } = tapers(preSamples, postSamples)
+  return (i) => {
     let w = 1
     const fromStart = i + preSamples
     if (fromStart < taperPre) w *= halfHann(fromStart, taperPre)
     const toEnd = postSamples - 1 - i
     if (toEnd < taperPost) w *= halfHann(toEnd, taperPost)
-    const src = (((origin + i) % N) + N) % N
-    out[(i + M) % M] = h[src]! * w
+    return w
   }
-  return out
 }
 
 /** An angle in radians as degrees in [−180, 180). */

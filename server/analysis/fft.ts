@@ -10,7 +10,7 @@ const plans = new Map<number, FFT>()
 /** Scratch buffers and twiddles per size: the transforms run many times per recording. */
 const scratch = new Map<number, { input: Float64Array; out: Float64Array }>()
 const twiddles = new Map<number, { cos: Float64Array; sin: Float64Array }>()
-const inverseScratch = new Map<number, { z: Float64Array; zt: Float64Array }>()
+const inverseScratch = new Map<number, Float64Array>()
 
 function scratchFor(n: number): { input: Float64Array; out: Float64Array } {
   let s = scratch.get(n)
@@ -86,12 +86,13 @@ export function rfft(x: ArrayLike<number>, n: number): Float64Array {
 export function irfft(spec: Float64Array, n: number): Float64Array {
   if (!isPowerOfTwo(n) || n < 4) throw new RangeError(`FFT length ${n} is not a power of two ≥ 4`)
   const m = n / 2
-  let sc = inverseScratch.get(n)
-  if (sc === undefined) {
-    sc = { z: new Float64Array(2 * m), zt: new Float64Array(2 * m) }
-    inverseScratch.set(n, sc)
+  let z = inverseScratch.get(n)
+  if (z === undefined) {
+    z = new Float64Array(2 * m)
+    inverseScratch.set(n, z)
   }
-  const { z, zt } = sc
+  // The output is written straight into the array returned.
+  const zt = new Float64Array(n)
   const tw = twiddlesFor(n)
   // E[k] = (X[k] + conj X[m−k]) / 2,  O[k] = (X[k] − conj X[m−k]) · e^{+2πik/n} / 2,  Z = E + i·O
   for (let k = 0; k < m; k++) {
@@ -112,7 +113,7 @@ export function irfft(spec: Float64Array, n: number): Float64Array {
   }
   plan(m).inverseTransform(zt, z)
   // zt holds m complex values: re/im interleaved are exactly the even/odd output samples.
-  return zt.slice(0, n)
+  return zt
 }
 
 /** Magnitude of bin k of an interleaved spectrum. */

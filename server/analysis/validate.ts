@@ -170,13 +170,13 @@ class ChannelScan {
 
   /** Feeds x[from, to), the samples of frames frame0, frame0 + 1, … */
   feed(x: Float64Array, from: number, to: number, frame0: number): void {
-    const { noiseEnd, sweepStart, sweepEnd, tailStart, analysisEnd } = this.w
     const clipLevel = this.clipLevel
-    let { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin, tailSum, tailLin } = this
-    for (let i = from, f = frame0; i < to; i++, f++) {
+    let { peak, run, clipped } = this
+    for (let i = from; i < to; i++) {
       const v = x[i]!
-      if (!Number.isFinite(v)) {
-        if (this.nonFiniteAt < 0) this.nonFiniteAt = f
+      // v − v is NaN for a NaN or an infinity and 0 for every finite sample.
+      if (v - v !== 0) {
+        if (this.nonFiniteAt < 0) this.nonFiniteAt = frame0 + i - from
         continue
       }
       const a = v < 0 ? -v : v
@@ -184,21 +184,29 @@ class ChannelScan {
       if (a >= clipLevel) {
         if (++run >= CLIP_RUN_SAMPLES) clipped = true
       } else run = 0
-      if (f < noiseEnd) {
-        noiseSum += v * v
-        noiseLin += v
-      }
-      if (f >= sweepStart && f < sweepEnd) {
-        sweepSum += v * v
-        sweepLin += v
-      }
-      if (f >= tailStart && f < analysisEnd) {
-        tailSum += v * v
-        tailLin += v
-      }
     }
-    Object.assign(this, { peak, run, clipped, noiseSum, sweepSum, noiseLin, sweepLin, tailSum, tailLin })
+    Object.assign(this, { peak, run, clipped })
+    if (this.nonFiniteAt >= 0) return
+    // The windows' sums, each over the part of the piece it covers, carried on from the pieces
+    // before in frame order (so a file read piece by piece sums exactly as one read whole).
+    const { noiseEnd, sweepStart, sweepEnd, tailStart, analysisEnd } = this.w
+    const span = (lo: number, hi: number, sums0: [number, number]): [number, number] =>
+      sums(x, from + Math.max(0, lo - frame0), from + Math.min(to - from, hi - frame0), sums0)
+    ;[this.noiseSum, this.noiseLin] = span(0, noiseEnd, [this.noiseSum, this.noiseLin])
+    ;[this.sweepSum, this.sweepLin] = span(sweepStart, sweepEnd, [this.sweepSum, this.sweepLin])
+    ;[this.tailSum, this.tailLin] = span(tailStart, analysisEnd, [this.tailSum, this.tailLin])
   }
+}
+
+/** The sum of squares and the plain sum `start` carries, with x[lo, hi) added (nothing when hi ≤ lo). */
+function sums(x: Float64Array, lo: number, hi: number, start: [number, number]): [number, number] {
+  let [q, l] = start
+  for (let i = lo; i < hi; i++) {
+    const v = x[i]!
+    q += v * v
+    l += v
+  }
+  return [q, l]
 }
 
 /**

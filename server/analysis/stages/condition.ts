@@ -19,7 +19,7 @@
  * before (about each channel's own DC), and only the later stages read the channels afterwards.
  */
 import { findHum, removeHum } from '../hum.ts'
-import { playedLevelOffsetDb } from '../level.ts'
+import { playedStimulus } from '../level.ts'
 import type { SweepContext } from '../context.ts'
 
 /** Block length for finding the quiet part of a channel, s (a few cycles of the sweep's bottom end). */
@@ -133,7 +133,8 @@ export function condition(ctx: SweepContext): void {
   const { mic, drive, sense } = ctx.channels
   for (const x of [mic, drive, sense]) if (x) subtractDc(x, n, estimateDc(x, n, blockLen))
   removeMainsHum(ctx)
-  ctx.params.levelOffsetDb = playedLevelOffsetDb(ctx.recording, ctx.profile)
+  ctx.played = playedStimulus(drive, sense, n, ctx.profile, ctx.fs)
+  ctx.params.levelOffsetDb = ctx.played?.levelOffsetDb ?? null
 }
 
 /** Quiet spans kept clear of the sweep: its fade-in and the unit's decay after it (our guards). */

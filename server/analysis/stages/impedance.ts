@@ -14,13 +14,14 @@ export function impedance(ctx: SweepContext): void {
   const { N, freqHz, curves, senseOhm: R } = ctx
   const { fLoValid, fTopValid, preN, linN, M, linBinHz } = ctx.windows
   const Xs = ctx.spectra?.Xs
-  const Xd = ctx.spectra?.Xd
-  if (!Xs || !Xd || ctx.unitDead) {
+  const Xa = ctx.spectra?.Xa
+  if (!Xs || !Xa || ctx.unitDead) {
     ctx.unmeasured.push('impedance', 'small_signal')
     ctx.notes.push(ctx.unitDead ? 'Impedance not measured: the coil is open or shorted.' : 'Impedance needs a sense channel (and a drive channel or a regenerated stimulus).')
     return
   }
-  const hs = irfft(divide(Xs, Xd), N)
+  // The terminal voltage is the amplifier's output less the sense resistor's drop: Xd = Xa − Xs.
+  const hs = irfft(divide(Xs, Xa, Xs), N)
   const Yw = rfft(cutWindow(hs, 0, preN, linN, M), M)
   const zMag: (number | null)[] = []
   const zPh: (number | null)[] = []
