@@ -42,6 +42,13 @@ export const REGULARISATION = 1e-6
 export const LINEAR_WINDOW_S = 0.2
 /** Part of the linear window kept ahead of the impulse (converter pre-ringing). */
 export const PRE_WINDOW_S = 0.002
+/**
+ * The harmonic responses take up the last (duration × this) of the deconvolved response: the
+ * highest order the sweep can carry (f2/f1) arrives one sweep duration ahead of the linear one
+ * (Farina 2000); the 3 % keep the noise window clear of its pre-ringing and of a clock that runs off
+ * by up to ±200 ppm (our margin).
+ */
+export const HARMONIC_SPAN_MARGIN = 1.03
 /** Share of each window used for its half-Hann tapers. */
 export const TAPER_FRACTION = 0.2
 /** Top of the usable sweep (its last fade starts near 0.93·f2 for a 1 s, 20 Hz–20 kHz sweep). */

@@ -46,7 +46,7 @@ export interface ResidualEvent {
   lockedLevelDb: number | null
 }
 
-/** Bursts in residual samples [a, b): rises above BURST_HIGH of the peak after a fall below BURST_LOW; the sample of each one's peak. */
+/** Bursts in residual samples [a, b): rises above BURST_HIGH of the peak after a fall below BURST_LOW; the sample of each one's middle. */
 export function findBursts(r: Float64Array, a: number, b: number, fs: number): number[] {
   const step = Math.max(1, Math.round(ENVELOPE_S * fs))
   const env: { at: number; m: number }[] = []
@@ -65,16 +65,22 @@ export function findBursts(r: Float64Array, a: number, b: number, fs: number): n
     peak = Math.max(peak, m)
   }
   if (!(peak > 0)) return []
-  const bursts: { at: number; m: number }[] = []
+  // Each burst's time is the centroid of its envelope's energy above BURST_LOW: a tone burst's
+  // middle, where its loudest sample would land anywhere within it.
+  const bursts: { sum: number; weight: number }[] = []
   let high = false
   for (const e of env) {
     if (!high && e.m > BURST_HIGH * peak) {
-      bursts.push({ ...e })
+      bursts.push({ sum: 0, weight: 0 })
       high = true
     } else if (high && e.m < BURST_LOW * peak) high = false
-    else if (high && e.m > bursts[bursts.length - 1]!.m) bursts[bursts.length - 1] = { ...e }
+    if (high) {
+      const b = bursts[bursts.length - 1]!
+      b.sum += e.m * e.m * e.at
+      b.weight += e.m * e.m
+    }
   }
-  return bursts.map((x) => x.at)
+  return bursts.map((x) => Math.round(x.sum / x.weight))
 }
 
 /**

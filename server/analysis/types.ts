@@ -59,6 +59,8 @@ export interface AnalysisParameters extends ResultFigures {
    * (where `curves.thdPct` is null but this is not, the THD is below this bound).
    */
   thdFloorPct?: (number | null)[] | null
+  /** Band the THD maximum (`thdMaxPct`) is searched in, Hz; a mask without a THD band is judged over it. */
+  thdMaxBandHz?: [number, number] | null
   disturbances?: Disturbance[]
   /** Things the station should look at that do not change the verdict. */
   warnings?: string[]

@@ -31,7 +31,7 @@ export interface Judgeable {
     Partial<
       Pick<
         AnalysisParameters,
-        'peakDbfs' | 'levelOffsetDb' | 'sensitivityUncertaintyDb' | 'rubBuzzFloorDb' | 'splUncertaintyDb' | 'thdFloorPct' | 'disturbances' | 'warnings'
+        'peakDbfs' | 'levelOffsetDb' | 'sensitivityUncertaintyDb' | 'rubBuzzFloorDb' | 'splUncertaintyDb' | 'thdFloorPct' | 'thdMaxBandHz' | 'disturbances' | 'warnings'
       >
     >
   flags: Pick<AnalysisFlags, 'polarity' | 'openCoil' | 'shortedCoil' | 'noResonance'>
@@ -257,7 +257,9 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
   for (const name of SCALAR_LIMIT_NAMES) {
     const lim = limits.scalars[name]
     if (!lim) continue
-    const band = name === 'thdMaxPct' && limits.thdBandHz ? thdBandCheck(r, lim, limits.thdBandHz) : null
+    // The THD maximum is read from its curve and floor: over the mask's band, or the engine's own search band.
+    const thdBand = limits.thdBandHz ?? p.thdMaxBandHz ?? null
+    const band = name === 'thdMaxPct' && thdBand ? thdBandCheck(r, lim, thdBand) : null
     if (band) {
       add(band)
       continue

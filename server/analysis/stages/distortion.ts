@@ -6,7 +6,8 @@
  */
 import type { SweepContext } from '../context.ts'
 import { DEFAULT_THD_AT_HZ, PRE_WINDOW_S } from '../constants.ts'
-import { cutWindow, interpLog } from '../dsp.ts'
+import { cutWindow, interpLog, windowEnergy } from '../dsp.ts'
+import { THD_CLEAR_RATIO } from '../noise-floor.ts'
 import { binInterp, nextPowerOfTwo, rfft } from '../fft.ts'
 import { harmonicDelayS } from '../sweep.ts'
 import type { ThdAtPoint } from '../types.ts'
@@ -38,7 +39,7 @@ export function distortion(ctx: SweepContext): void {
   const sweep = ctx.profile.sweep
   const { fLoValid, fTopValid, linBinHz } = ctx.windows
   const L = Math.log(sweep.f2Hz / sweep.f1Hz)
-  const specs: { k: number; spec: Float64Array; M: number }[] = []
+  const specs: { k: number; spec: Float64Array; M: number; energy: number }[] = []
   for (const k of HARMONIC_ORDERS) {
     const dk = harmonicDelayS(k, sweep) * fs
     const gapAfter = ((sweep.durationS * Math.log(k / (k - 1))) / L) * fs // to the next lower order
@@ -47,7 +48,7 @@ export function distortion(ctx: SweepContext): void {
     const post = Math.round(HARMONIC_POST_GAP_FRACTION * gapAfter)
     const M = nextPowerOfTwo(pre + post + 1)
     const seg = cutWindow(ha, peakIdx - Math.round(dk), pre, post, M)
-    specs.push({ k, spec: rfft(seg, M), M })
+    specs.push({ k, spec: rfft(seg, M), M, energy: windowEnergy(pre, post) })
   }
   const harmonicPct = (k: number, f: number): number | null => {
     if (f < fLoValid || k * f > fTopValid) return null
@@ -62,8 +63,22 @@ export function distortion(ctx: SweepContext): void {
     const thd = h[0] === null ? null : Math.sqrt(valid.reduce((a, x) => a + x * x, 0))
     return { hz: f, thdPct: thd, h2Pct: h[0]!, h3Pct: h[1]!, h4Pct: h[2]!, h5Pct: h[3]!, splDb: null }
   }
+  // The THD the noise alone reads at f: each harmonic's window lets through its own share of the
+  // noise at k·f, over the linear response at f.
+  const noise = acoustic.noise
+  const floorPct = (f: number): number | null => {
+    if (!noise || f < fLoValid || 2 * f > fTopValid) return null
+    const h1 = Math.hypot(...binInterp(Ha, f / linBinHz))
+    if (!(h1 > 0)) return null
+    let power = 0
+    for (const s of specs) if (s.k * f <= fTopValid) power += noise.at(s.k * f, s.energy) ** 2
+    return (THD_CLEAR_RATIO * 100 * Math.sqrt(power)) / h1
+  }
   const pts = freqHz.map(point)
-  curves.thdPct = pts.map((p) => p.thdPct)
+  const floors = freqHz.map(floorPct)
+  // Measured only where it stands clear of the floor; below it the THD is reported as the floor.
+  curves.thdPct = pts.map((p, i) => (p.thdPct !== null && floors[i] !== null && p.thdPct < floors[i]! ? null : p.thdPct))
+  if (noise) params.thdFloorPct = floors
   curves.h2Pct = pts.map((p) => p.h2Pct)
   curves.h3Pct = pts.map((p) => p.h3Pct)
   curves.h4Pct = pts.map((p) => p.h4Pct)
@@ -84,12 +99,13 @@ export function distortion(ctx: SweepContext): void {
   let maxThd = -1
   for (let i = 0; i < freqHz.length; i++) {
     const f = freqHz[i]!
-    const th = pts[i]!.thdPct
-    if (th === null || f < THD_MAX_LOW_FACTOR * sweep.f1Hz || THD_MAX_TOP_ORDER * f > fTopValid) continue
+    const th = curves.thdPct[i]
+    if (th == null || f < THD_MAX_LOW_FACTOR * sweep.f1Hz || THD_MAX_TOP_ORDER * f > fTopValid) continue
     if (th > maxThd) {
       maxThd = th
       params.thdMaxAtHz = f
     }
   }
   params.thdMaxPct = maxThd >= 0 ? maxThd : null
+  if (noise) params.thdMaxBandHz = [THD_MAX_LOW_FACTOR * sweep.f1Hz, fTopValid / THD_MAX_TOP_ORDER]
 }

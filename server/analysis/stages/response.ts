@@ -7,8 +7,9 @@
  */
 import type { SweepContext } from '../context.ts'
 import { channelStat } from '../context.ts'
-import { NO_SOUND_SNR_DB, REFERENCE_DISTANCE_M, REFERENCE_DRIVE_V, REFERENCE_PRESSURE_PA, speedOfSoundMs } from '../constants.ts'
-import { cutWindow, divide, wrapDeg } from '../dsp.ts'
+import { HARMONIC_SPAN_MARGIN, NO_SOUND_SNR_DB, REFERENCE_DISTANCE_M, REFERENCE_DRIVE_V, REFERENCE_PRESSURE_PA, speedOfSoundMs } from '../constants.ts'
+import { cutWindow, divide, windowEnergy, wrapDeg } from '../dsp.ts'
+import { levelUncertaintyDb, NOISE_BAND_OCT, NoiseSpectrum } from '../noise-floor.ts'
 import { binInterp, irfft, rfft } from '../fft.ts'
 
 /**
@@ -55,21 +56,27 @@ export function response(ctx: SweepContext): void {
   }
   params.acousticDelayMs = (1000 * peakIdx) / fs
   const Ha = rfft(cutWindow(ha, 0, preN, linN, M), M)
-  ctx.acoustic = { ha, Ha, peakIdx }
+  const noise = NoiseSpectrum.of(ha, fs, linN, preN, linN, Math.ceil(HARMONIC_SPAN_MARGIN * profile.sweep.durationS * fs))
+  const linEnergy = windowEnergy(preN, linN)
+  ctx.acoustic = { ha, Ha, peakIdx, noise }
 
   const sensScale = (REFERENCE_DRIVE_V * (profile.micDistanceM / REFERENCE_DISTANCE_M)) / profile.micSensitivityVPerPa
   const tau = profile.micDistanceM / speedOfSoundMs(ctx.options.ambientC ?? DEFAULT_AMBIENT_C)
   const Yw = ctx.admittance
   const spl: (number | null)[] = []
   const splPh: (number | null)[] = []
+  const splU: (number | null)[] = []
   for (const f of freqHz) {
     if (f < fLoValid || f > fTopValid) {
       spl.push(null)
       splPh.push(null)
+      splU.push(null)
       continue
     }
     const b = f / linBinHz
     let [hr, hi] = binInterp(Ha, b)
+    // The terminal correction below scales the response and its noise alike: the ratio stays.
+    splU.push(noise ? levelUncertaintyDb(Math.hypot(hr, hi), noise.at(f, linEnergy)) : null)
     if (Yw !== null) {
       const [yr, yi] = binInterp(Yw, b)
       const cr = 1 + yr
@@ -85,19 +92,28 @@ export function response(ctx: SweepContext): void {
   }
   curves.splDb = spl
   curves.splPhaseDeg = splPh
+  if (noise) params.splUncertaintyDb = splU
 
   const band = ctx.sensitivityBandHz
   let n = 0
   let s = 0
+  let uSq = 0
   for (let i = 0; i < freqHz.length; i++) {
     const f = freqHz[i]!
     const val = spl[i]
     if (f >= band[0] && f <= band[1] && val !== null && val !== undefined) {
       s += val
+      uSq += (splU[i] ?? 0) ** 2
       n++
     }
   }
   params.sensitivityDb = n > 0 ? s / n : null
+  // The mean over the band averages the noise of its independent bands (NOISE_BAND_OCT wide each):
+  // the uncertainty of a mean of m independent readings is their RMS uncertainty over √m (GUM 4.2.3).
+  if (noise && n > 0) {
+    const bands = Math.max(1, Math.log2(band[1] / band[0]) / NOISE_BAND_OCT)
+    params.sensitivityUncertaintyDb = Math.sqrt(uSq / n / bands)
+  }
 
   // Polarity: mean cosine of the phase over the polarity band once the impulse's delay is removed.
   const tauPeak = peakIdx / fs

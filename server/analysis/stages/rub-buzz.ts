@@ -31,7 +31,7 @@ const RUB_BUZZ_MIN_SEGMENT_SAMPLES = 16
 export function rubBuzz(ctx: SweepContext): void {
   const mic = ctx.channels.mic
   if (!ctx.acoustic || !mic || !ctx.spectra) return
-  const rb = rubBuzzLevel(ctx.acoustic.ha, ctx.spectra.Xa, mic, ctx.acoustic.peakIdx, ctx.profile, ctx.fs, ctx.windows.fTopValid, playedSweepOffset(ctx))
+  const rb = rubBuzzLevel(ctx.acoustic.ha, ctx.spectra.Xa, mic, ctx.acoustic.peakIdx, ctx.profile, ctx.fs, ctx.windows.fTopValid, ctx.played?.offsetFrames ?? 0)
   if (!rb) {
     ctx.unmeasured.push('rub_buzz')
     return
@@ -58,7 +58,9 @@ export function rubBuzz(ctx: SweepContext): void {
     // disturbs the frequencies the sweep passed in the LINEAR_WINDOW_S before it (and its own).
     const fromHz = sweepFrequencyAt(sweep, Math.max(0, e.atS - LINEAR_WINDOW_S))
     const toHz = sweepFrequencyAt(sweep, Math.min(sweep.durationS, e.atS + KNOCK_SPAN_AFTER_S))
-    const retest = e.levelDb > ctx.rubBuzzLimitDb
+    // Loud enough to read as rub and buzz: measure again, unless what is locked to the drive under
+    // it fails the unit anyway.
+    const retest = e.levelDb > ctx.rubBuzzLimitDb && !(e.lockedLevelDb !== null && e.lockedLevelDb > ctx.rubBuzzLimitDb)
     ;(ctx.params.disturbances ??= []).push({
       code: 'transient',
       note: `A short sound not caused by the unit (a knock?) ${e.atS.toFixed(2)} s into the sweep, ${e.levelDb.toFixed(0)} dB re the sweep's peak${retest ? ': measure again' : ''}.`,
@@ -68,28 +70,6 @@ export function rubBuzz(ctx: SweepContext): void {
       toHz,
     })
   }
-}
-
-/**
- * Where the station really started the sweep, in frames after the profile's start: the residual is
- * read in blocks along the sweep, and a station may start it early or late. The amplifier's output
- * (drive + sense) has a constant amplitude over the sweep, so half its energy lies before the
- * sweep's middle. 0 without a drive channel.
- */
-function playedSweepOffset(ctx: SweepContext): number {
-  const { drive, sense } = ctx.channels
-  if (!drive) return 0
-  const n = ctx.recording.analysisFrames
-  let total = 0
-  for (let i = 0; i < n; i++) total += (drive[i]! + (sense ? sense[i]! : 0)) ** 2
-  let acc = 0
-  let mid = 0
-  while (mid < n && acc < total / 2) {
-    acc += (drive[mid]! + (sense ? sense[mid]! : 0)) ** 2
-    mid++
-  }
-  const sweep = ctx.profile.sweep
-  return mid - Math.round((sweep.durationS / 2) * ctx.fs) - Math.round(sweep.preSilenceS * ctx.fs)
 }
 
 /** A knock disturbs the sweep for about this long after it (its decay and the room's). */
@@ -119,12 +99,13 @@ export function rubBuzzLevel(
   const seg = new Float64Array(N)
   const len = Math.round(endAdv - startAdv)
   const taper = Math.max(1, Math.round(RUB_BUZZ_TAPER_FRACTION * len))
+  let src = (((peakIdx - Math.round(endAdv)) % N) + N) % N
   for (let i = 0; i < len; i++) {
     let w = 1
     if (i < taper) w = halfHann(i, taper)
     else if (len - 1 - i < taper) w = halfHann(len - 1 - i, taper)
-    const src = (((peakIdx - Math.round(endAdv) + i) % N) + N) % N
     seg[src] = ha[src]! * w
+    if (++src === N) src = 0
   }
   const Hh = rfft(seg, N)
   const binHz = fs / N
