@@ -20,6 +20,7 @@ export const ANALYSIS_ERROR_CODES = [
   'non_finite',
   'duplicate_chunk',
   'drive_probe_fault',
+  'sense_probe_fault',
   'invalid_profile',
   'table_too_few_points',
   'table_not_increasing',

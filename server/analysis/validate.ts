@@ -1,5 +1,5 @@
 import { AnalysisInputError } from './errors.ts'
-import { NYQUIST_USABLE_FRACTION } from './constants.ts'
+import { NYQUIST_USABLE_FRACTION, OPEN_COIL_OHM } from './constants.ts'
 import type { ChannelRole, StationProfile } from '../../shared/utils/station-profile.ts'
 import { decodeFrames, parseWavLayout, readWavLayout, type ByteSource, type SampleEncoding, type WavLayout } from './wav-reader.ts'
 
@@ -314,7 +314,7 @@ class RecordingScan {
 /**
  * The rules on the channels' figures: clipping, a silent drive, a dead drive probe. Returns
  * whether the drive is silent with current flowing (a shorted unit, once a probe fault is ruled out).
- * @throws AnalysisInputError `clipped`, `silent_drive`, `drive_probe_fault`.
+ * @throws AnalysisInputError `clipped`, `silent_drive`, `drive_probe_fault`, `sense_probe_fault`.
  */
 function applyRules(stats: ChannelStats[], profile: StationProfile, options: ValidateOptions): boolean {
   const level = profile.sweep.levelVrms
@@ -347,6 +347,19 @@ function applyRules(stats: ChannelStats[], profile: StationProfile, options: Val
       `The drive channel reads ${driveStats!.sweepRmsV.toExponential(2)} V RMS during the sweep while the microphone hears the unit ${micStats!.snrDb!.toFixed(0)} dB above its noise: check the drive-voltage probe and measure again.`,
       { channel: driveStats!.index },
     )
+  }
+  // The drive is there and the unit plays, but no current reads: a unit that plays draws current, so
+  // the lead across the sense resistor reads nothing. An open coil is silent. Without a drive channel
+  // the current has no reference, and without a mic the sound cannot be told: the rules stand.
+  if (driveStats !== undefined && senseStats !== undefined && !driveSilent && micHearsSweep) {
+    const current = senseStats.sweepRmsV / profile.senseResistorOhm
+    if (!(current > 0) || driveStats.sweepRmsV / current > OPEN_COIL_OHM) {
+      throw new AnalysisInputError(
+        'sense_probe_fault',
+        `The current (sense) channel reads ${senseStats.sweepRmsV.toExponential(2)} V RMS during the sweep while the microphone hears the unit ${micStats!.snrDb!.toFixed(0)} dB above its noise: check the sense lead and measure again.`,
+        { channel: senseStats.index },
+      )
+    }
   }
   if (driveSilent && !driveSilentWithCurrent) {
     throw new AnalysisInputError(

@@ -98,6 +98,7 @@ export const ERROR_CODES = {
   non_finite: { status: 422, message: 'The recording holds values that are not numbers' },
   duplicate_chunk: { status: 422, message: 'The recording holds a second fmt or data chunk' },
   drive_probe_fault: { status: 422, message: 'The drive-voltage probe reads nothing while the unit plays: check the probe and measure again' },
+  sense_probe_fault: { status: 422, message: 'The current (sense) lead reads nothing while the unit plays: check the lead and measure again' },
   invalid_profile: { status: 422, message: 'The station profile is not valid' },
   table_too_few_points: { status: 422, message: 'The impedance table has too few points' },
   table_not_increasing: { status: 422, message: 'The impedance table\'s frequencies do not increase' },

@@ -130,6 +130,7 @@ describe('upload slots', () => {
 describe('the streamed upload check', () => {
   it.each([
     ['a dead drive-voltage probe (the unit plays, its current flows)', () => generateRecording({ defect: 'dead_drive_probe', seed: 1825 }), 'drive_probe_fault'],
+    ['a dead current lead (the unit plays, no current reads)', () => generateRecording({ defect: 'dead_sense_probe', seed: 1827 }), 'sense_probe_fault'],
     ['a second data chunk', () => {
       const good = generateRecording({ seed: 1826 })
       const extra = Buffer.concat([Buffer.from('data'), Buffer.from([96, 0, 0, 0]), good.subarray(44, 44 + 96)])

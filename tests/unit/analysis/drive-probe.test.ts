@@ -3,6 +3,8 @@
  * shorted. Drive silent (or collapsed with current flowing) while the microphone hears the sweep
  * at least PROBE_FAULT_MIC_SNR_DB above its noise → refused (`drive_probe_fault`, measure again);
  * the same with a silent microphone stays what it was (a shorted-coil fail, or `silent_drive`).
+ * Likewise a dead current lead: no current while the microphone hears the unit → refused
+ * (`sense_probe_fault`); with a silent microphone it stays an open-coil fail.
  */
 import { describe, expect, it } from 'vitest'
 import {
@@ -99,5 +101,45 @@ describe('what a silent microphone leaves as it was', () => {
 
   it('a station that played nothing: still silent_drive', () => {
     expect(codeOf(() => validateRecording(generateRecording({ defect: 'silent_drive', seed: 95 }), DEFAULT_PROFILE))).toBe('silent_drive')
+  })
+})
+
+const SENSE = DEFAULT_PROFILE.channels.indexOf('sense')
+
+describe('a dead current (sense) lead', () => {
+  // A unit that plays draws current: sound at the microphone with no current is the lead across the
+  // sense resistor, not an open coil (an open coil is silent).
+  it('on a good unit that plays is refused with sense_probe_fault, where it was an open-coil fail', () => {
+    const good = generateRecording({ seed: 96 })
+    expect(micSnr(good)).toBeGreaterThan(PROBE_FAULT_MIC_SNR_DB + 20)
+    const dead = zeroChannel(good, SENSE)
+    let error: unknown = null
+    try {
+      validateRecording(dead, DEFAULT_PROFILE)
+    } catch (e) {
+      error = e
+    }
+    expect(error).toBeInstanceOf(AnalysisInputError)
+    expect((error as AnalysisInputError).code).toBe('sense_probe_fault')
+    expect((error as AnalysisInputError).message).toContain('check the sense lead and measure again')
+    expect((error as AnalysisInputError).channel).toBe(SENSE)
+    expect(codeOf(() => analyzeRecording(dead, DEFAULT_PROFILE))).toBe('sense_probe_fault')
+  })
+
+  it('the generator’s dead sense lead is refused the same way', () => {
+    expect(codeOf(() => validateRecording(generateRecording({ defect: 'dead_sense_probe', seed: 97 }), DEFAULT_PROFILE))).toBe('sense_probe_fault')
+  })
+
+  it('an open coil is silent: still an open-coil fail with a result', () => {
+    const open = generateRecording({ defect: 'open_coil', seed: 98 })
+    expect(micSnr(open)).toBeLessThan(PROBE_FAULT_MIC_SNR_DB)
+    expect(analyzeRecording(open, DEFAULT_PROFILE).flags.openCoil).toBe(true)
+  })
+
+  it('a microphone that hears the unit only 14 dB above its noise leaves an open coil as it was', () => {
+    const driver = { ...DEMO_DRIVER, sdM2: DEMO_DRIVER.sdM2 * 0.002 }
+    const quiet = generateRecording({ driver, defect: 'dead_sense_probe', seed: 99 })
+    expect(micSnr(quiet)).toBeLessThan(PROBE_FAULT_MIC_SNR_DB)
+    expect(analyzeRecording(quiet, DEFAULT_PROFILE).flags.openCoil).toBe(true)
   })
 })

@@ -87,6 +87,7 @@ const FIXTURES: [string, Uint8Array, StationProfile, string | null][] = [
   ['a clipped mic', generateRecording({ defect: 'clipped', seed: 67 }), DEFAULT_PROFILE, 'clipped'],
   ['a silent drive', generateRecording({ defect: 'silent_drive', seed: 68 }), DEFAULT_PROFILE, 'silent_drive'],
   ['a dead drive-voltage probe', generateRecording({ defect: 'dead_drive_probe', seed: 69 }), DEFAULT_PROFILE, 'drive_probe_fault'],
+  ['a dead current (sense) lead', generateRecording({ defect: 'dead_sense_probe', seed: 70 }), DEFAULT_PROFILE, 'sense_probe_fault'],
   ['a NaN in the drive channel', withNaN(float32, [{ frame: 40_000, channel: 1 }]), DEFAULT_PROFILE, 'non_finite'],
   // The lowest channel with a bad sample is named, wherever in the file it lies.
   ['NaNs in the sense channel early and the mic late', withNaN(float32, [{ frame: 100, channel: 2 }, { frame: 60_000, channel: 0 }]), DEFAULT_PROFILE, 'non_finite'],
