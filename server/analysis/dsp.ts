@@ -3,28 +3,33 @@ import { REGULARISATION, TAPER_FRACTION } from './constants.ts'
 
 /**
  * Y·conj(X) / (|X|² + ε): regularised spectral division of two interleaved spectra. With `minus`,
- * X − minus stands for X (the difference is never stored).
+ * X − minus stands for X.
  */
 export function divide(Y: Float64Array, X: Float64Array, minus?: Float64Array): Float64Array {
-  const B = minus ?? null
+  const D = minus ? difference(X, minus) : X
   let maxP = 0
-  for (let i = 0; i < X.length; i += 2) {
-    const xr = B ? X[i]! - B[i]! : X[i]!
-    const xi = B ? X[i + 1]! - B[i + 1]! : X[i + 1]!
-    const p = xr * xr + xi * xi
+  for (let i = 0; i < D.length; i += 2) {
+    const p = D[i]! * D[i]! + D[i + 1]! * D[i + 1]!
     if (p > maxP) maxP = p
   }
   const eps = REGULARISATION * maxP
   const out = new Float64Array(Y.length)
-  for (let i = 0; i < X.length; i += 2) {
-    const xr = B ? X[i]! - B[i]! : X[i]!
-    const xi = B ? X[i + 1]! - B[i + 1]! : X[i + 1]!
+  for (let i = 0; i < D.length; i += 2) {
+    const xr = D[i]!
+    const xi = D[i + 1]!
     const yr = Y[i]!
     const yi = Y[i + 1]!
     const inv = 1 / (xr * xr + xi * xi + eps)
     out[i] = (yr * xr + yi * xi) * inv
     out[i + 1] = (yi * xr - yr * xi) * inv
   }
+  return out
+}
+
+/** a − b, element by element. */
+function difference(a: Float64Array, b: Float64Array): Float64Array {
+  const out = new Float64Array(a.length)
+  for (let i = 0; i < a.length; i++) out[i] = a[i]! - b[i]!
   return out
 }
 
