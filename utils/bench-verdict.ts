@@ -1,6 +1,6 @@
 import type { CheckView, RecordingSummary } from '#shared/types/api'
 import { CHECK_LABELS } from '#shared/utils/mask'
-import type { CheckOutcome } from '#shared/utils/units'
+import { showsUncertainty, type CheckOutcome } from '#shared/utils/units'
 import type { Verdict } from '#shared/utils/verdict'
 
 /** What the bench shows for one recording: the verdict once judged, otherwise where it stands. */
@@ -90,10 +90,10 @@ export function checkValueText(c: CheckView): string {
   if (c.name === 'splDb' || c.name === 'impedanceOhm') {
     const over = c.value !== null && c.value > 0 ? `${formatFigure(c.value)} over` : 'inside'
     const text = c.atHz ? `${over} at ${formatFigure(c.atHz)} Hz` : over
-    return c.uncertainty !== undefined ? `${text} (± ${formatFigure(c.uncertainty, 2)})` : text
+    return showsUncertainty(c.uncertainty) ? `${text} (± ${formatFigure(c.uncertainty, 2)})` : text
   }
   if (c.below) return `below ${formatFigure(c.value)}`
-  if (c.uncertainty !== undefined && Number.isFinite(c.uncertainty)) return `${formatFigure(c.value)} ± ${formatFigure(c.uncertainty, 2)}`
+  if (showsUncertainty(c.uncertainty)) return `${formatFigure(c.value)} ± ${formatFigure(c.uncertainty, 2)}`
   return formatFigure(c.value)
 }
 

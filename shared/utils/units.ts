@@ -165,12 +165,23 @@ export function checkOutcome(c: { pass: boolean; undecided?: boolean }): CheckOu
 }
 
 /**
+ * Smallest uncertainty shown beside a figure, in the figure's unit (dB or %): a clean recording's is
+ * far smaller, and "± 0.0010" beside every figure would only hide the ones noise really limits.
+ */
+export const UNCERTAINTY_SHOWN_FROM = 0.005
+
+/** Whether a check's uncertainty is worth showing beside its figure. */
+export function showsUncertainty(u: number | undefined): u is number {
+  return u !== undefined && Number.isFinite(u) && u >= UNCERTAINTY_SHOWN_FROM
+}
+
+/**
  * A figure as read against its check: "below x" when it lies under the noise floor x (the check's
  * value), "v ± u" when noise limits it (u at 95 % coverage), otherwise the figure alone.
  */
 export function figureWithUncertainty(value: string, check: { value: number | null; below?: boolean; uncertainty?: number } | undefined): string {
   if (check?.below && check.value !== null) return `below ${figureText(check.value)}`
-  if (check?.uncertainty !== undefined && Number.isFinite(check.uncertainty) && value !== '–') return `${value} ± ${figureText(check.uncertainty, 2)}`
+  if (showsUncertainty(check?.uncertainty) && value !== '–') return `${value} ± ${figureText(check.uncertainty, 2)}`
   return value
 }
 

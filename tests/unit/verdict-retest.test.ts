@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { yieldWindow } from '../../server/services/alerts'
 import { productCreateSchema, productPatchSchema } from '../../shared/utils/product'
-import { checkOutcome, figureWithUncertainty, parameterRows } from '../../shared/utils/units'
+import { checkOutcome, figureWithUncertainty, parameterRows, UNCERTAINTY_SHOWN_FROM } from '../../shared/utils/units'
 import { DEFAULT_RETEST_LIMIT, RETEST_ADVICE, RETEST_REASONS, isDecisive, retestsInARow, unitVerdictOf, type Verdict } from '../../shared/utils/verdict'
 
 // Our product rules for the retest verdict (issue 14): a retest decides nothing and is never a fail.
@@ -72,5 +72,11 @@ describe('check rows that could not decide, below the floor, with uncertainty', 
   it('writes a figure alone without a check or an uncertainty, and keeps a dash for a missing one', () => {
     expect(figureWithUncertainty('61.3', undefined)).toBe('61.3')
     expect(figureWithUncertainty('–', { value: null, uncertainty: 0.5 })).toBe('–')
+  })
+
+  it('leaves out an uncertainty too small to matter (a clean recording’s), keeps one from the threshold up', () => {
+    expect(figureWithUncertainty('89.50', { value: 89.5, uncertainty: 0.001 })).toBe('89.50')
+    expect(figureWithUncertainty('89.50', { value: 89.5, uncertainty: UNCERTAINTY_SHOWN_FROM })).toBe('89.50 ± 0.0050')
+    expect(figureWithUncertainty('89.50', { value: 89.5, uncertainty: 0.034 })).toBe('89.50 ± 0.034')
   })
 })
