@@ -215,6 +215,8 @@ function toView(r: ViewRow, curves: boolean): RecordingView {
       splDb: r.curve_spl_db ?? null,
       impedanceOhm: r.curve_impedance_ohm ?? null,
       thdPct: r.curve_thd_pct ?? null,
+      splUncertaintyDb: Array.isArray(parameters.splUncertaintyDb) ? (parameters.splUncertaintyDb as (number | null)[]) : null,
+      thdFloorPct: Array.isArray(parameters.thdFloorPct) ? (parameters.thdFloorPct as (number | null)[]) : null,
       maskSplDb: r.limits?.curves?.splDb ?? null,
       maskImpedanceOhm: r.limits?.curves?.impedanceOhm ?? null,
     } satisfies RecordingCurves

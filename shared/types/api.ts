@@ -134,7 +134,12 @@ export interface RecordingCurves {
   freqHz: number[]
   splDb: (number | null)[] | null
   impedanceOhm: (number | null)[] | null
+  /** Null where the THD is below its noise floor (see thdFloorPct). */
   thdPct: (number | null)[] | null
+  /** ± of the response per point, dB (k = 2); null in results made before it existed. */
+  splUncertaintyDb: (number | null)[] | null
+  /** The THD below which a reading is not told apart from the noise, %; null in older results. */
+  thdFloorPct: (number | null)[] | null
   maskSplDb: CurveLimit | null
   maskImpedanceOhm: CurveLimit | null
 }

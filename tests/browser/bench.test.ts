@@ -110,8 +110,13 @@ describe('the bench page', () => {
     expect(await page.getByTestId('failed-checks').count()).toBe(0)
     expect(await page.locator('[data-testid=bench-checks] [data-check=polarity]').textContent()).toContain('normal')
     expect(await page.locator('[data-testid=bench-checks] [data-check=splDb]').textContent()).toContain('inside')
-    // Both curves are drawn (uPlot canvases) once the result is in.
-    await expect.poll(() => page.locator('figure canvas').count()).toBeGreaterThanOrEqual(2)
+    // The three curves are drawn (uPlot canvases) once the result is in: the response with its
+    // uncertainty (even a clean recording's reaches a few tenths of a dB at the bottom of the sweep,
+    // where the unit is quiet), the impedance, and the THD with its noise floor.
+    await expect.poll(() => page.locator('figure canvas').count()).toBeGreaterThanOrEqual(3)
+    const captions = await page.locator('figure figcaption').allTextContents()
+    expect(captions.some((c) => c.includes('Distortion (THD)') && c.includes('noise floor'))).toBe(true)
+    expect(captions.some((c) => c.trim().startsWith('Response') && c.includes('uncertainty'))).toBe(true)
 
     // Ready for the next unit: serial cleared and focused, file cleared.
     await expect.poll(activeTestId).toBe('bench-serial')
