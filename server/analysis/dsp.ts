@@ -1,36 +1,34 @@
 /** Small signal-processing helpers the stages share: spectral division, windows, phase wrapping. */
 import { REGULARISATION, TAPER_FRACTION } from './constants.ts'
+import { irfft, workBuffer } from './fft.ts'
 
 /**
- * Y·conj(X) / (|X|² + ε): regularised spectral division of two interleaved spectra. With `minus`,
- * X − minus stands for X.
+ * The impulse response (length N) of Y over X: the inverse transform of the regularised spectral
+ * division Y·conj(X) / (|X|² + ε). With `minus`, X − minus stands for X.
  */
-export function divide(Y: Float64Array, X: Float64Array, minus?: Float64Array): Float64Array {
-  const D = minus ? difference(X, minus) : X
+export function impulseResponse(Y: Float64Array, X: Float64Array, N: number, minus?: Float64Array): Float64Array {
+  let D = X
+  if (minus) {
+    D = workBuffer('divisor', X.length)
+    for (let i = 0; i < X.length; i++) D[i] = X[i]! - minus[i]!
+  }
   let maxP = 0
   for (let i = 0; i < D.length; i += 2) {
     const p = D[i]! * D[i]! + D[i + 1]! * D[i + 1]!
     if (p > maxP) maxP = p
   }
   const eps = REGULARISATION * maxP
-  const out = new Float64Array(Y.length)
+  const quotient = workBuffer('quotient', D.length)
   for (let i = 0; i < D.length; i += 2) {
     const xr = D[i]!
     const xi = D[i + 1]!
     const yr = Y[i]!
     const yi = Y[i + 1]!
     const inv = 1 / (xr * xr + xi * xi + eps)
-    out[i] = (yr * xr + yi * xi) * inv
-    out[i + 1] = (yi * xr - yr * xi) * inv
+    quotient[i] = (yr * xr + yi * xi) * inv
+    quotient[i + 1] = (yi * xr - yr * xi) * inv
   }
-  return out
-}
-
-/** a − b, element by element. */
-function difference(a: Float64Array, b: Float64Array): Float64Array {
-  const out = new Float64Array(a.length)
-  for (let i = 0; i < a.length; i++) out[i] = a[i]! - b[i]!
-  return out
+  return irfft(quotient, N)
 }
 
 /** Rising half-Hann taper: 0 at i = 0, 1 at i = n. */

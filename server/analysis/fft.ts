@@ -11,6 +11,29 @@ const plans = new Map<number, FFT>()
 const scratch = new Map<number, { input: Float64Array; out: Float64Array }>()
 const twiddles = new Map<number, { cos: Float64Array; sin: Float64Array }>()
 const inverseScratch = new Map<number, Float64Array>()
+/**
+ * Work buffers the stages reuse from one recording to the next, by length and name: a temporary the
+ * size of a transform costs more to allocate (fresh pages, then the collector) than to fill.
+ */
+const work = new Map<number, Map<string, Float64Array>>()
+
+/**
+ * A reused buffer of `length` for the temporary `name`. It holds whatever its last user left: fill
+ * what is read. Valid until the next call with the same name and length.
+ */
+export function workBuffer(name: string, length: number): Float64Array {
+  let byName = work.get(length)
+  if (byName === undefined) {
+    byName = new Map()
+    work.set(length, byName)
+  }
+  let b = byName.get(name)
+  if (b === undefined) {
+    b = new Float64Array(length)
+    byName.set(name, b)
+  }
+  return b
+}
 
 function scratchFor(n: number): { input: Float64Array; out: Float64Array } {
   let s = scratch.get(n)
@@ -50,7 +73,7 @@ function plan(size: number): FFT {
  * worker calls this after each recording, so what one recording needed is not kept for the rest.
  */
 export function releaseTransformCaches(aboveLength = 0): void {
-  for (const cache of [plans, scratch, twiddles, inverseScratch] as Map<number, unknown>[]) {
+  for (const cache of [plans, scratch, twiddles, inverseScratch, work] as Map<number, unknown>[]) {
     for (const n of [...cache.keys()]) if (n > aboveLength) cache.delete(n)
   }
 }
@@ -94,6 +117,7 @@ export function irfft(spec: Float64Array, n: number): Float64Array {
   // The output is written straight into the array returned.
   const zt = new Float64Array(n)
   const tw = twiddlesFor(n)
+  const invM = 1 / m
   // E[k] = (X[k] + conj X[m−k]) / 2,  O[k] = (X[k] − conj X[m−k]) · e^{+2πik/n} / 2,  Z = E + i·O
   for (let k = 0; k < m; k++) {
     const xr = spec[2 * k]!
@@ -108,10 +132,13 @@ export function irfft(spec: Float64Array, n: number): Float64Array {
     const s = tw.sin[k]!
     const or = dr * c - di * s
     const oi = dr * s + di * c
-    z[2 * k] = er - oi
-    z[2 * k + 1] = ei + or
+    // The inverse as a forward transform of the bins in reverse order, scaled by 1/m:
+    // FFT(Z[(m − k) mod m])[j] = m·IFFT(Z)[j]. It spares fft.js's inverse its separate scaling pass.
+    const r = k === 0 ? 0 : m - k
+    z[2 * r] = (er - oi) * invM
+    z[2 * r + 1] = (ei + or) * invM
   }
-  plan(m).inverseTransform(zt, z)
+  plan(m).transform(zt, z)
   // zt holds m complex values: re/im interleaved are exactly the even/odd output samples.
   return zt
 }

@@ -176,7 +176,7 @@ describe('certificate PDF', () => {
     const pdf = await renderCertificatePdf({
       unit,
       test: TEST,
-      curves: { freqHz, splDb: freqHz.map(() => 88), impedanceOhm: null, thdPct: null, maskSplDb: { freqHz: [50, 5000], low: [85, 85], high: [91, 91] }, maskImpedanceOhm: null },
+      curves: { freqHz, splDb: freqHz.map(() => 88), impedanceOhm: null, thdPct: null, splUncertaintyDb: null, thdFloorPct: null, maskSplDb: { freqHz: [50, 5000], low: [85, 85], high: [91, 91] }, maskImpedanceOhm: null },
       issuedAt: '2026-12-02T10:00:00.000Z',
     })
     const { total, text } = await new PDFParse({ data: pdf }).getText()

@@ -7,8 +7,8 @@
  * windowed spectrum on the grid between the usable band's edges.
  */
 import type { SweepContext } from '../context.ts'
-import { cutWindow, divide } from '../dsp.ts'
-import { binInterp, irfft, rfft } from '../fft.ts'
+import { cutWindow, impulseResponse } from '../dsp.ts'
+import { binInterp, rfft } from '../fft.ts'
 
 export function impedance(ctx: SweepContext): void {
   const { N, freqHz, curves, senseOhm: R } = ctx
@@ -21,7 +21,7 @@ export function impedance(ctx: SweepContext): void {
     return
   }
   // The terminal voltage is the amplifier's output less the sense resistor's drop: Xd = Xa − Xs.
-  const hs = irfft(divide(Xs, Xa, Xs), N)
+  const hs = impulseResponse(Xs, Xa, N, Xs)
   const Yw = rfft(cutWindow(hs, 0, preN, linN, M), M)
   const zMag: (number | null)[] = []
   const zPh: (number | null)[] = []

@@ -8,9 +8,9 @@
 import type { SweepContext } from '../context.ts'
 import { channelStat } from '../context.ts'
 import { HARMONIC_SPAN_MARGIN, NO_SOUND_SNR_DB, REFERENCE_DISTANCE_M, REFERENCE_DRIVE_V, REFERENCE_PRESSURE_PA, speedOfSoundMs } from '../constants.ts'
-import { cutWindow, divide, windowEnergy, wrapDeg } from '../dsp.ts'
+import { cutWindow, impulseResponse, windowEnergy, wrapDeg } from '../dsp.ts'
 import { levelUncertaintyDb, NOISE_BAND_OCT, NoiseSpectrum } from '../noise-floor.ts'
-import { binInterp, irfft, rfft } from '../fft.ts'
+import { binInterp, rfft } from '../fft.ts'
 
 /**
  * The acoustic impulse is the largest sample of the response within this time of the drive: a mic
@@ -43,7 +43,7 @@ export function response(ctx: SweepContext): void {
     notes.push(!P ? 'No mic channel: no acoustic result.' : ctx.unitDead ? 'No sound: the coil is open or shorted.' : 'The mic channel carries no sound above its noise.')
     return
   }
-  const ha = irfft(divide(P, ctx.spectra.Xa), N)
+  const ha = impulseResponse(P, ctx.spectra.Xa, N)
   const searchN = Math.min(N, Math.round(ACOUSTIC_SEARCH_S * fs))
   let best = 0
   let peakIdx = 0

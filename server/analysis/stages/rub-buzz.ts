@@ -8,7 +8,7 @@
 import type { SweepContext } from '../context.ts'
 import { LINEAR_WINDOW_S, RUB_BUZZ_BAND_LOW_HZ, RUB_BUZZ_MIN_ORDER, USABLE_BOTTOM_FACTOR } from '../constants.ts'
 import { halfHann } from '../dsp.ts'
-import { irfft, rfft } from '../fft.ts'
+import { irfft, rfft, workBuffer } from '../fft.ts'
 import { harmonicDelayS, sweepFrequencyAt, sweepRate, sweepTimeAt } from '../sweep.ts'
 import { residualEvents, residualFloorDb, type ResidualBlock } from '../transient.ts'
 import type { StationProfile } from '../../../shared/utils/station-profile.ts'
@@ -96,7 +96,7 @@ export function rubBuzzLevel(
   const startAdv = harmonicDelayS(RUB_BUZZ_MIN_ORDER, sweep) * fs
   const endAdv = Math.min(maxAdvance * fs, harmonicDelayS(Math.min(kMax, sweep.f2Hz / sweep.f1Hz), sweep) * fs)
   if (endAdv <= startAdv + RUB_BUZZ_MIN_SEGMENT_SAMPLES) return null
-  const seg = new Float64Array(N)
+  const seg = workBuffer('rub-buzz segment', N).fill(0)
   const len = Math.round(endAdv - startAdv)
   const taper = Math.max(1, Math.round(RUB_BUZZ_TAPER_FRACTION * len))
   let src = (((peakIdx - Math.round(endAdv)) % N) + N) % N
@@ -111,7 +111,7 @@ export function rubBuzzLevel(
   const binHz = fs / N
   const bLo = Math.ceil(RUB_BUZZ_BAND_LOW_HZ / binHz)
   const bHi = Math.floor(fTopValid / binHz)
-  const R = new Float64Array(N + 2)
+  const R = workBuffer('rub-buzz spectrum', N + 2).fill(0)
   for (let b = bLo; b <= bHi; b++) {
     const hr = Hh[2 * b]!
     const hi = Hh[2 * b + 1]!
