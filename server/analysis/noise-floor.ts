@@ -39,7 +39,7 @@ export function levelUncertaintyDb(signal: number, noise: number): number | null
  * window's end and stops `pre` short of the harmonic responses, which take up the last
  * `harmonicSpan` samples; it is as long as the linear window (`post`) when there is room.
  */
-export function noiseWindowPlace(N: number, linearEnd: number, pre: number, post: number, harmonicSpan: number): { origin: number; post: number } | null {
+function noiseWindowPlace(N: number, linearEnd: number, pre: number, post: number, harmonicSpan: number): { origin: number; post: number } | null {
   const origin = linearEnd + pre
   const room = N - harmonicSpan - pre - origin
   if (room < post / 4) return null

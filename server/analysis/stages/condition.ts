@@ -127,6 +127,10 @@ export function subtractDc(x: Float64Array, n: number, dc: number): void {
   for (let i = 0; i < len; i++) x[i] = x[i]! - dc
 }
 
+/**
+ * DC off every channel, then mains hum off the microphone and current channels, then the stimulus
+ * as played (the amplifier's output: its level against the profile and where the sweep started).
+ */
 export function condition(ctx: SweepContext): void {
   const n = ctx.recording.analysisFrames
   const blockLen = Math.max(1, Math.round(DC_BLOCK_S * ctx.fs))
