@@ -17,7 +17,10 @@ export interface AnalyzeOptions {
 
 export interface ThdAtPoint {
   hz: number
+  /** Null where it is below the noise floor (then `thdFloorPct` is the bound). */
   thdPct: number | null
+  /** The THD the noise alone would read here × the margin; absent in results made before it existed. */
+  thdFloorPct?: number | null
   h2Pct: number | null
   h3Pct: number | null
   h4Pct: number | null

@@ -158,7 +158,7 @@ export interface RecordingView extends RecordingSummary {
   /** Things the station should look at that did not change the verdict (e.g. a level 1–6 dB off the profile). */
   warnings: string[]
   notes: string[]
-  thdAt: { hz: number; thdPct: number | null }[]
+  thdAt: { hz: number; thdPct: number | null; thdFloorPct?: number | null }[]
   flags: { polarity: 'normal' | 'inverted' | null; openCoil: boolean; shortedCoil: boolean; rubBuzz: boolean | null; [k: string]: unknown } | null
   classical: Record<string, unknown> | null
   engineVersion: string | null

@@ -84,8 +84,13 @@ export function distortion(ctx: SweepContext): void {
   curves.h4Pct = pts.map((p) => p.h4Pct)
   curves.h5Pct = pts.map((p) => p.h5Pct)
   const splCurve = curves.splDb
+  // A reading below its floor is reported as the floor (the THD is below it), never as read.
+  const clear = (p: ThdAtPoint): ThdAtPoint => {
+    const fl = floorPct(p.hz)
+    return { ...p, thdPct: p.thdPct !== null && fl !== null && p.thdPct < fl ? null : p.thdPct, ...(noise ? { thdFloorPct: fl } : {}) }
+  }
   for (const hz of ctx.options.thdAtHz ?? DEFAULT_THD_AT_HZ) {
-    const p = point(hz)
+    const p = clear(point(hz))
     const inRange = hz >= fLoValid && hz <= fTopValid
     let spl: number | null = null
     if (inRange && splCurve) {
@@ -95,7 +100,9 @@ export function distortion(ctx: SweepContext): void {
     }
     ctx.thdAt.push({ ...p, splDb: spl })
   }
-  params.thdPct = point(THD_FIGURE_HZ).thdPct
+  const atFigure = clear(point(THD_FIGURE_HZ))
+  params.thdPct = atFigure.thdPct
+  if (atFigure.thdPct === null && atFigure.thdFloorPct != null) ctx.notes.push(`THD at ${THD_FIGURE_HZ} Hz below ${atFigure.thdFloorPct.toPrecision(2)} % (the noise floor).`)
   let maxThd = -1
   for (let i = 0; i < freqHz.length; i++) {
     const f = freqHz[i]!

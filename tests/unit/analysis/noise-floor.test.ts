@@ -99,6 +99,21 @@ describe('uncertainties against clean twins (good units, pink hall noise on the 
     expect(inside / total).toBeGreaterThanOrEqual(0.95)
   })
 
+  it('a THD figure below its floor is reported as below it, with the floor, never as read', () => {
+    const { seed, sim, clean } = twins[0]!
+    const noisy = analyze(recordingFile(disturbedRecording('good', { kind: 'pink', levelDbfs: -55 }, seed, sim)))
+    // Clean: the 1 kHz figure is read and its floor is far under it.
+    const cleanAt = clean.thdAt.find((p) => p.hz === 1000)!
+    expect(clean.parameters.thdPct).toBeGreaterThan(0)
+    expect(cleanAt.thdPct).toBeGreaterThan(cleanAt.thdFloorPct!)
+    // −55 dBFS of hall noise hides the unit's 0.3 % at 1 kHz: null, the floor given, and a note.
+    const at = noisy.thdAt.find((p) => p.hz === 1000)!
+    expect(at.thdPct).toBeNull()
+    expect(at.thdFloorPct).toBeGreaterThan(cleanAt.thdPct!)
+    expect(noisy.parameters.thdPct).toBeNull()
+    expect(noisy.notes.some((n) => n.startsWith('THD at 1000 Hz below'))).toBe(true)
+  })
+
   it('THD: a reading clear of the floor is within its uncertainty of the twin; below the floor, the twin is below it too', () => {
     let compared = 0
     let below = 0
