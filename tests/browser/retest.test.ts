@@ -4,6 +4,7 @@ import { join } from 'node:path'
 import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
+import { disturbedRecordingFile } from '../../fixtures/disturbances'
 import { DEFAULT_PROFILE } from '../../shared/utils/station-profile'
 import { RETEST_ADVICE, type RetestReason } from '../../shared/utils/verdict'
 import { hydrated, launchBrowser, shot, signInAs } from '../support/browser'
@@ -24,6 +25,7 @@ let maskId: number
 let station: { id: number }
 const lotCode = unique('LOTB')
 let loudFile = ''
+let noisyFile = ''
 
 /** A recording and its result stored as a retest (as the analysis stores one), at the station, in the lot. */
 async function insertRetest(serial: string, reason: RetestReason, minutesAgo: number): Promise<number> {
@@ -57,6 +59,9 @@ beforeAll(async () => {
   const loud = { ...DEFAULT_PROFILE, sweep: { ...DEFAULT_PROFILE.sweep, levelVrms: DEFAULT_PROFILE.sweep.levelVrms * LOUD } }
   loudFile = join(dir, 'unit-loud.wav')
   writeFileSync(loudFile, generateRecording({ seed: 41, profile: loud }))
+  // A good unit in an open hall: pink noise at −55 dBFS on the microphone hides its 0.3 % THD at 1 kHz.
+  noisyFile = join(dir, 'unit-noisy.wav')
+  writeFileSync(noisyFile, disturbedRecordingFile('good', { kind: 'pink', levelDbfs: -55 }, 41))
   page = await browser.newPage({ viewport: { width: 1366, height: 768 } })
   page.on('filechooser', () => {})
 }, 300_000)
@@ -116,6 +121,27 @@ describe('a retest on the bench', () => {
     expect(await page.getByTestId('retest-advice').getAttribute('data-reason')).toBe('level')
     expect(await page.getByTestId('retest-label').textContent()).toBe(RETEST_ADVICE.level.label)
     expect(await page.getByTestId('retest-todo').textContent()).toContain(RETEST_ADVICE.level.todo)
+  })
+})
+
+describe('a recording in hall noise on the bench', () => {
+  it('shows the THD under the noise floor as "below x", and the floor on the THD chart', async () => {
+    await page.goto(new URL('/bench', baseUrl).toString())
+    await hydrated(page)
+    await page.getByTestId('bench-station').selectOption(String(station.id))
+    await page.getByTestId('bench-product').selectOption(product.code)
+    await page.getByTestId('bench-lot').fill(lotCode)
+    await page.getByTestId('bench-file').setInputFiles(noisyFile)
+    await page.getByTestId('bench-serial').fill(unique('RN'))
+    await page.getByTestId('bench-serial').press('Enter')
+    await expect.poll(verdictWord, { timeout: VERDICT_TIMEOUT_MS }).toMatch(/^(PASS|FAIL|RETEST|REJECTED|FAILED|NOT JUDGED)$/)
+    await shot(page, 'bench-noisy')
+    // This mask limits Fs only: the noise leaves the unit a pass.
+    expect(await verdictWord()).toBe('PASS')
+    expect(await page.getByTestId('figure-thdPct').textContent()).toMatch(/below\s+\d/)
+    await expect.poll(() => page.locator('figure canvas').count()).toBeGreaterThanOrEqual(3)
+    const captions = await page.locator('figure figcaption').allTextContents()
+    expect(captions.some((c) => c.includes('Distortion (THD)') && c.includes('noise floor'))).toBe(true)
   })
 })
 
