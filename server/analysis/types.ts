@@ -64,6 +64,8 @@ export interface AnalysisParameters extends ResultFigures {
   thdFloorPct?: (number | null)[] | null
   /** Band the THD maximum (`thdMaxPct`) is searched in, Hz; a mask without a THD band is judged over it. */
   thdMaxBandHz?: [number, number] | null
+  /** When no THD in that band stands clear of the floor (`thdMaxPct` null): the floor's highest point there, the bound. */
+  thdMaxFloorPct?: number | null
   disturbances?: Disturbance[]
   /** Things the station should look at that do not change the verdict. */
   warnings?: string[]

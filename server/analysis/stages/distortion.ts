@@ -104,15 +104,25 @@ export function distortion(ctx: SweepContext): void {
   params.thdPct = atFigure.thdPct
   if (atFigure.thdPct === null && atFigure.thdFloorPct != null) ctx.notes.push(`THD at ${THD_FIGURE_HZ} Hz below ${atFigure.thdFloorPct.toPrecision(2)} % (the noise floor).`)
   let maxThd = -1
+  let maxFloor: number | null = null
   for (let i = 0; i < freqHz.length; i++) {
     const f = freqHz[i]!
+    if (f < THD_MAX_LOW_FACTOR * sweep.f1Hz || THD_MAX_TOP_ORDER * f > fTopValid) continue
+    const fl = floors[i]
+    if (fl != null && (maxFloor === null || fl > maxFloor)) maxFloor = fl
     const th = curves.thdPct[i]
-    if (th == null || f < THD_MAX_LOW_FACTOR * sweep.f1Hz || THD_MAX_TOP_ORDER * f > fTopValid) continue
-    if (th > maxThd) {
+    if (th != null && th > maxThd) {
       maxThd = th
       params.thdMaxAtHz = f
     }
   }
   params.thdMaxPct = maxThd >= 0 ? maxThd : null
-  if (noise) params.thdMaxBandHz = [THD_MAX_LOW_FACTOR * sweep.f1Hz, fTopValid / THD_MAX_TOP_ORDER]
+  if (!noise) return
+  const band: [number, number] = [THD_MAX_LOW_FACTOR * sweep.f1Hz, fTopValid / THD_MAX_TOP_ORDER]
+  params.thdMaxBandHz = band
+  // Nothing clear of the floor in the band: the THD is below the floor's highest point there.
+  if (params.thdMaxPct === null && maxFloor !== null) {
+    params.thdMaxFloorPct = maxFloor
+    ctx.notes.push(`THD below ${maxFloor.toPrecision(2)} % from ${band[0].toFixed(0)} Hz to ${band[1].toFixed(0)} Hz (the noise floor).`)
+  }
 }

@@ -112,6 +112,11 @@ describe('uncertainties against clean twins (good units, pink hall noise on the 
     expect(at.thdFloorPct).toBeGreaterThan(cleanAt.thdPct!)
     expect(noisy.parameters.thdPct).toBeNull()
     expect(noisy.notes.some((n) => n.startsWith('THD at 1000 Hz below'))).toBe(true)
+    // Nothing in the THD maximum's band stands clear: no maximum, the floor's highest point as the bound.
+    expect(clean.parameters.thdMaxPct).toBeGreaterThan(0)
+    expect(clean.parameters.thdMaxFloorPct).toBeUndefined()
+    expect(noisy.parameters.thdMaxPct).toBeNull()
+    expect(noisy.parameters.thdMaxFloorPct).toBeGreaterThan(clean.parameters.thdMaxPct!)
   })
 
   it('THD: a reading clear of the floor is within its uncertainty of the twin; below the floor, the twin is below it too', () => {
