@@ -4,9 +4,9 @@ import { irfft, workBuffer } from './fft.ts'
 
 /**
  * The impulse response (length N) of Y over X: the inverse transform of the regularised spectral
- * division Y·conj(X) / (|X|² + ε). With `minus`, X − minus stands for X.
+ * division Y·conj(X) / (|X|² + ε). With `minus`, X − minus stands for X. Written into `out`.
  */
-export function impulseResponse(Y: Float64Array, X: Float64Array, N: number, minus?: Float64Array): Float64Array {
+export function impulseResponse(Y: Float64Array, X: Float64Array, N: number, minus?: Float64Array, out: Float64Array = new Float64Array(N)): Float64Array {
   let D = X
   if (minus) {
     D = workBuffer('divisor', X.length)
@@ -28,7 +28,7 @@ export function impulseResponse(Y: Float64Array, X: Float64Array, N: number, min
     quotient[i] = (yr * xr + yi * xi) * inv
     quotient[i + 1] = (yi * xr - yr * xi) * inv
   }
-  return irfft(quotient, N)
+  return irfft(quotient, N, out)
 }
 
 /** Rising half-Hann taper: 0 at i = 0, 1 at i = n. */

@@ -105,8 +105,8 @@ export function rfft(x: ArrayLike<number>, n: number): Float64Array {
   return s.out.slice(0, n + 2)
 }
 
-/** Inverse of `rfft`: bins 0…n/2 (interleaved) to n real samples, normalised by 1/n. */
-export function irfft(spec: Float64Array, n: number): Float64Array {
+/** Inverse of `rfft`: bins 0…n/2 (interleaved) to n real samples, normalised by 1/n, written into `out` (length n). */
+export function irfft(spec: Float64Array, n: number, out: Float64Array = new Float64Array(n)): Float64Array {
   if (!isPowerOfTwo(n) || n < 4) throw new RangeError(`FFT length ${n} is not a power of two ≥ 4`)
   const m = n / 2
   let z = inverseScratch.get(n)
@@ -115,7 +115,7 @@ export function irfft(spec: Float64Array, n: number): Float64Array {
     inverseScratch.set(n, z)
   }
   // The output is written straight into the array returned.
-  const zt = new Float64Array(n)
+  const zt = out
   const tw = twiddlesFor(n)
   const invM = 1 / m
   // E[k] = (X[k] + conj X[m−k]) / 2,  O[k] = (X[k] − conj X[m−k]) · e^{+2πik/n} / 2,  Z = E + i·O

@@ -1,9 +1,13 @@
 import type { StationProfile } from '../../shared/utils/station-profile.ts'
 import { SWEEP_FADE_S } from './sweep.ts'
+import { workBuffer } from './fft.ts'
 
 /** The stimulus as the station played it, read from the amplifier's output. */
 export interface PlayedStimulus {
-  /** The amplifier's output over the analysed frames: the terminal voltage plus the sense resistor's drop, V. */
+  /**
+   * The amplifier's output over the analysed frames: the terminal voltage plus the sense resistor's
+   * drop, V. A reused buffer (fft.ts workBuffer): valid for the recording being analysed.
+   */
   output: Float64Array
   /** Its level against the profile's, dB (null when it is silent). */
   levelOffsetDb: number | null
@@ -25,7 +29,7 @@ export interface PlayedStimulus {
  */
 export function playedStimulus(drive: Float64Array | null, sense: Float64Array | null, n: number, profile: StationProfile, fs: number): PlayedStimulus | null {
   if (!drive) return null
-  const output = new Float64Array(n)
+  const output = workBuffer('amplifier output', n)
   let energy = 0
   for (let i = 0; i < n; i++) {
     const a = drive[i]! + (sense ? sense[i]! : 0)

@@ -8,7 +8,7 @@
  */
 import type { SweepContext } from '../context.ts'
 import { cutWindow, impulseResponse } from '../dsp.ts'
-import { binInterp, rfft } from '../fft.ts'
+import { binInterp, rfft, workBuffer } from '../fft.ts'
 
 export function impedance(ctx: SweepContext): void {
   const { N, freqHz, curves, senseOhm: R } = ctx
@@ -21,7 +21,8 @@ export function impedance(ctx: SweepContext): void {
     return
   }
   // The terminal voltage is the amplifier's output less the sense resistor's drop: Xd = Xa − Xs.
-  const hs = impulseResponse(Xs, Xa, N, Xs)
+  // Only its windowed part is kept: the response itself lives in a reused buffer.
+  const hs = impulseResponse(Xs, Xa, N, Xs, workBuffer('admittance impulse response', N))
   const Yw = rfft(cutWindow(hs, 0, preN, linN, M), M)
   const zMag: (number | null)[] = []
   const zPh: (number | null)[] = []

@@ -120,7 +120,7 @@ export function rubBuzzLevel(
     R[2 * b] = hr * xr - hi * xi
     R[2 * b + 1] = hr * xi + hi * xr
   }
-  const r = irfft(R, N)
+  const r = irfft(R, N, workBuffer('rub-buzz residual', N))
   // Blocks of two sweep cycles from the end of the fade-in to where order 10 leaves the band.
   const start = Math.round(sweep.preSilenceS * fs) + sweepOffset + peakIdx
   const tEnd = Math.log(fTopValid / RUB_BUZZ_MIN_ORDER / sweep.f1Hz) / rate
