@@ -1,3 +1,4 @@
+import { fileURLToPath } from 'node:url'
 import { defineConfig } from 'vitest/config'
 
 // Three projects (see DEVELOPERS.md):
@@ -9,6 +10,8 @@ export default defineConfig({
   test: {
     projects: [
       {
+        // The app's `#shared` alias (Nuxt's), so the browser-side helpers in utils/ load here too.
+        resolve: { alias: { '#shared': fileURLToPath(new URL('./shared', import.meta.url)) } },
         test: {
           name: 'unit',
           environment: 'node',

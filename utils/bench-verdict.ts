@@ -88,8 +88,10 @@ export function checkValueText(c: CheckView): string {
   if (c.value === null && !c.pass && c.name !== 'coil') return 'not measured'
   if (c.name === 'polarity') return c.value === 1 ? 'normal' : c.value === -1 ? 'inverted' : '–'
   if (c.name === 'splDb' || c.name === 'impedanceOhm') {
-    const over = c.value !== null && c.value > 0 ? `${formatFigure(c.value)} over` : 'inside'
-    const text = c.atHz ? `${over} at ${formatFigure(c.atHz)} Hz` : over
+    const isOver = c.value !== null && c.value > 0
+    const over = isOver ? `${formatFigure(c.value)} over` : 'inside'
+    // Inside, the frequency is where the curve came closest to its limits.
+    const text = c.atHz ? `${over}${isOver ? ' at' : ', closest at'} ${formatFigure(c.atHz)} Hz` : over
     return showsUncertainty(c.uncertainty) ? `${text} (± ${formatFigure(c.uncertainty, 2)})` : text
   }
   if (c.below) return `below ${formatFigure(c.value)}`

@@ -316,6 +316,12 @@ class RecordingScan {
  * whether the drive is silent with current flowing (a shorted unit, once a probe fault is ruled out).
  * @throws AnalysisInputError `clipped`, `silent_drive`, `drive_probe_fault`, `sense_probe_fault`.
  */
+/** A small voltage as a technician reads it: "0.063 mV", "150 mV". */
+function millivolts(v: number): string {
+  const mv = v * 1000
+  return `${mv >= 10 ? mv.toFixed(0) : mv.toPrecision(2)} mV`
+}
+
 function applyRules(stats: ChannelStats[], profile: StationProfile, options: ValidateOptions): boolean {
   const level = profile.sweep.levelVrms
   const driveStats = stats.find((s) => s.role === 'drive')
@@ -344,7 +350,7 @@ function applyRules(stats: ChannelStats[], profile: StationProfile, options: Val
   if ((driveSilent || driveSilentWithCurrent) && micHearsSweep) {
     throw new AnalysisInputError(
       'drive_probe_fault',
-      `The drive channel reads ${driveStats!.sweepRmsV.toExponential(2)} V RMS during the sweep while the microphone hears the unit ${micStats!.snrDb!.toFixed(0)} dB above its noise: check the drive-voltage probe and measure again.`,
+      `The drive channel reads ${millivolts(driveStats!.sweepRmsV)} RMS during the sweep while the microphone hears the unit ${micStats!.snrDb!.toFixed(0)} dB above its noise: check the drive-voltage probe and measure again.`,
       { channel: driveStats!.index },
     )
   }
@@ -356,7 +362,7 @@ function applyRules(stats: ChannelStats[], profile: StationProfile, options: Val
     if (!(current > 0) || driveStats.sweepRmsV / current > OPEN_COIL_OHM) {
       throw new AnalysisInputError(
         'sense_probe_fault',
-        `The current (sense) channel reads ${senseStats.sweepRmsV.toExponential(2)} V RMS during the sweep while the microphone hears the unit ${micStats!.snrDb!.toFixed(0)} dB above its noise: check the sense lead and measure again.`,
+        `The current (sense) channel reads ${millivolts(senseStats.sweepRmsV)} RMS during the sweep while the microphone hears the unit ${micStats!.snrDb!.toFixed(0)} dB above its noise: check the sense lead and measure again.`,
         { channel: senseStats.index },
       )
     }
@@ -364,7 +370,7 @@ function applyRules(stats: ChannelStats[], profile: StationProfile, options: Val
   if (driveSilent && !driveSilentWithCurrent) {
     throw new AnalysisInputError(
       'silent_drive',
-      `The drive channel is silent (${driveStats.sweepRmsV.toExponential(2)} V RMS during the sweep, expected about ${profile.sweep.levelVrms} V): the station played nothing.`,
+      `The drive channel is silent (${millivolts(driveStats.sweepRmsV)} RMS during the sweep, expected about ${profile.sweep.levelVrms} V): the station played nothing.`,
       { channel: driveStats.index },
     )
   }

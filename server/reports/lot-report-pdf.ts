@@ -47,7 +47,7 @@ function retestLine(r: LotReport): string {
 /** "2 units: SN-1 (2), SN-7 (3)", the count first so it survives a cut, or "none". */
 function reviewLine(r: LotReport): string {
   const u = r.needsReview.units
-  return u.length ? `${u.length} units: ${u.map((x) => `${x.serial} (${x.retests})`).join(', ')}` : 'none'
+  return u.length ? `${u.length} ${u.length === 1 ? 'unit' : 'units'}: ${u.map((x) => `${x.serial} (${x.retests})`).join(', ')}` : 'none'
 }
 
 function summaryPage(doc: Doc, r: LotReport) {
@@ -64,7 +64,7 @@ function summaryPage(doc: Doc, r: LotReport) {
     ['Units never judged', String(s.unitsNeverJudged)],
     ['First-pass yield', `${pct(s.firstPassYield)} (${s.firstPassUnits} units)`],
     ['Final yield', `${pct(s.finalYield)} (${s.finalPassUnits} units)`],
-    ['Retest rate', `${pct(s.retestRate)} (${s.retestedUnits} units)`],
+    ['Tested more than once', `${pct(s.retestRate)} (${s.retestedUnits} ${s.retestedUnits === 1 ? 'unit' : 'units'})`],
     ['Return rate', `${pct(s.returnRate)} (${s.returnedUnits} units returned, ${s.returns} returns)`],
     // Retests are not failures: counted apart from the Pareto of failing checks below.
     ['First result: retest', retestLine(r)],

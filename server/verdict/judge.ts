@@ -103,6 +103,7 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
   let compared = 0
   let outside = false
   let cause: Cause | null = null
+  let straddle: { f: number; u: number; excess: number } | null = null
   r.curves.freqHz.forEach((f, i) => {
     const v = values[i]
     if (v == null) return
@@ -120,11 +121,17 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
     if (s === 'inside') return
     if (inSpan(f, transients)) cause = 'transient'
     else if (s === 'outside') outside = true
-    else cause ??= 'noise'
+    else {
+      cause ??= 'noise'
+      if (!straddle || excess > straddle.excess) straddle = { f, u, excess }
+    }
   })
   if (compared === 0) return null
   const check = { name, value: round(Math.max(worst, 0)), low: null, high: 0, unit: CHECK_LABELS[name]!.unit, ...(atHz ? { atHz: round(atHz) } : {}) }
   if (outside) return { check: { ...check, pass: false }, cause: null }
+  // Undecided by noise: the point whose uncertainty reaches over the limit, with that uncertainty.
+  const near = straddle as { f: number; u: number; excess: number } | null
+  if (cause === 'noise' && near) return { check: { ...check, value: round(Math.max(near.excess, 0)), atHz: round(near.f), uncertainty: round(near.u), pass: false, undecided: true }, cause }
   if (cause) return { check: { ...check, pass: false, undecided: true }, cause }
   return { check: { ...check, pass: true }, cause: null }
 }
@@ -144,6 +151,9 @@ function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | nu
   let maxBelow: { v: number; f: number } | null = null
   let outside = false
   let cause: Cause | null = null
+  // A reading that could not decide, and the highest floor over the limit (where "below x" cannot decide).
+  let clearUndecided = false
+  let floorOver: { v: number; f: number } | null = null
   r.curves.freqHz.forEach((f, i) => {
     if (f < band[0] || f > band[1]) return
     const v = thd[i]
@@ -153,26 +163,32 @@ function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | nu
       if (!maxClear || v > maxClear.v) maxClear = { v, u, f }
       const s = stand(v, u, lim.low, lim.high)
       if (s === 'inside') return
-      if (inSpan(f, transients)) cause = 'transient'
+      if (inSpan(f, transients)) [cause, clearUndecided] = ['transient', true]
       else if (s === 'outside') outside = true
-      else cause ??= 'noise'
+      else [cause, clearUndecided] = [cause ?? 'noise', true]
     } else if (fl != null) {
       if (!maxBelow || fl > maxBelow.v) maxBelow = { v: fl, f }
-      if (lim.high !== null && fl > lim.high) cause ??= inSpan(f, transients) ? 'transient' : 'noise'
+      if (lim.high !== null && fl > lim.high) {
+        cause ??= inSpan(f, transients) ? 'transient' : 'noise'
+        if (!floorOver || fl > floorOver.v) floorOver = { v: fl, f }
+      }
     }
   })
   const clear = maxClear as { v: number; u: number; f: number } | null
   const below = maxBelow as { v: number; f: number } | null
+  const over = floorOver as { v: number; f: number } | null
   if (!clear && !below) return null
-  const shown = clear ?? { v: below!.v, u: 0, f: below!.f }
+  // What the check shows: the reading that decided, or, when only a floor over the limit kept it
+  // from deciding, that floor ("below x" with x over the limit says why).
+  const bound = over && !outside && !clearUndecided ? over : clear ? null : below!
   const check: Omit<Check, 'pass'> = {
     name: 'thdMaxPct',
-    value: round(shown.v),
+    value: round(bound ? bound.v : clear!.v),
     low: lim.low,
     high: lim.high,
     unit: CHECK_LABELS.thdMaxPct!.unit,
-    atHz: round(shown.f),
-    ...(clear ? { uncertainty: round(clear.u) } : { below: true }),
+    atHz: round(bound ? bound.f : clear!.f),
+    ...(bound ? { below: true } : { uncertainty: round(clear!.u) }),
   }
   if (outside) return { check: { ...check, pass: false }, cause: null }
   if (cause) return { check: { ...check, pass: false, undecided: true }, cause }

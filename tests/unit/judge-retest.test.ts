@@ -45,7 +45,8 @@ describe('a figure with its uncertainty against a limit', () => {
     const splDb = [86, 87, 84.2, 88, 87]
     expect(check(withParams({}, { splDb }), 'splDb')).toMatchObject({ pass: true })
     const u = judge(withParams({ splUncertaintyDb: [0.1, 0.1, 1, 0.1, 0.1] }, { splDb }), limits, 8)
-    expect(u.checks.find((c) => c.name === 'splDb')).toMatchObject({ pass: false, undecided: true })
+    // The check names the point and its uncertainty: inside there (excess 0), ± 1 dB reaching over the limit.
+    expect(u.checks.find((c) => c.name === 'splDb')).toMatchObject({ pass: false, undecided: true, value: 0, atHz: 500, uncertainty: 1 })
     expect(u.verdict).toBe('retest')
     // Outside by more than its uncertainty anywhere decides a fail, whatever straddles elsewhere.
     const out = judge(withParams({ splUncertaintyDb: [0.1, 0.1, 1, 0.1, 0.1] }, { splDb: [80, 87, 84.2, 88, 87] }), limits, 8)
@@ -58,7 +59,8 @@ describe('THD against its noise floor', () => {
     const quiet = withParams({ thdFloorPct: [0.3, 0.3, 0.3, 0.3, 0.3] }, { thdPct: [0.8, null, null, null, null] })
     expect(check(quiet, 'thdMaxPct')).toMatchObject({ value: 0.8, pass: true })
     const loud = withParams({ thdFloorPct: [0.3, 5, 0.3, 0.3, 0.3] }, { thdPct: [0.8, null, null, null, null] })
-    expect(check(loud, 'thdMaxPct')).toMatchObject({ pass: false, undecided: true })
+    // The check shows why: the floor over the limit, where it lies ("below 5 at 200 Hz"), not the reading that passed.
+    expect(check(loud, 'thdMaxPct')).toMatchObject({ pass: false, undecided: true, value: 5, below: true, atHz: 200 })
     expect(judge(loud, limits, 8).verdict).toBe('retest')
   })
 

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest'
 import { yieldWindow } from '../../server/services/alerts'
 import { productCreateSchema, productPatchSchema } from '../../shared/utils/product'
 import { checkOutcome, figureWithUncertainty, parameterRows, UNCERTAINTY_SHOWN_FROM } from '../../shared/utils/units'
+import { checkValueText } from '../../utils/bench-verdict'
 import { DEFAULT_RETEST_LIMIT, RETEST_ADVICE, RETEST_REASONS, isDecisive, retestsInARow, unitVerdictOf, type Verdict } from '../../shared/utils/verdict'
 
 // Our product rules for the retest verdict (issue 14): a retest decides nothing and is never a fail.
@@ -78,5 +79,17 @@ describe('check rows that could not decide, below the floor, with uncertainty', 
     expect(figureWithUncertainty('89.50', { value: 89.5, uncertainty: 0.001 })).toBe('89.50')
     expect(figureWithUncertainty('89.50', { value: 89.5, uncertainty: UNCERTAINTY_SHOWN_FROM })).toBe('89.50 ± 0.0050')
     expect(figureWithUncertainty('89.50', { value: 89.5, uncertainty: 0.034 })).toBe('89.50 ± 0.034')
+  })
+})
+
+describe('a curve check as the bench writes it', () => {
+  const curve = { name: 'splDb', low: null, high: 0, unit: 'dB' }
+  it('names how far over and where, or that it stayed inside and where it came closest', () => {
+    expect(checkValueText({ ...curve, value: 1.5, atHz: 80, pass: false })).toBe('1.50 over at 80.0 Hz')
+    expect(checkValueText({ ...curve, value: 0, atHz: 12232, pass: true })).toBe('inside, closest at 12232 Hz')
+  })
+
+  it('gives the uncertainty of a point that could not decide', () => {
+    expect(checkValueText({ ...curve, value: 0, atHz: 500, uncertainty: 1, pass: false, undecided: true })).toBe('inside, closest at 500 Hz (± 1.0)')
   })
 })
