@@ -1,6 +1,6 @@
 /** Small signal-processing helpers the stages share: spectral division, windows, phase wrapping. */
 import { REGULARISATION, TAPER_FRACTION } from './constants.ts'
-import { irfft, workBuffer } from './fft.ts'
+import { irfft, rfft, workBuffer } from './fft.ts'
 
 /**
  * The impulse response (length N) of Y over X: the inverse transform of the regularised spectral
@@ -41,9 +41,8 @@ export function halfHann(i: number, n: number): number {
  * tapers, into a buffer of length M; sample `origin` of the response lands at index 0 and
  * earlier samples wrap to the end, so phases stay referred to `origin`.
  */
-export function cutWindow(h: Float64Array, origin: number, preSamples: number, postSamples: number, M: number): Float64Array {
+export function cutWindow(h: Float64Array, origin: number, preSamples: number, postSamples: number, M: number, out: Float64Array = new Float64Array(M)): Float64Array {
   const N = h.length
-  const out = new Float64Array(M)
   const shape = windowShape(preSamples, postSamples)
   let src = (((origin - preSamples) % N) + N) % N
   let dst = (((-preSamples) % M) + M) % M
@@ -53,6 +52,11 @@ export function cutWindow(h: Float64Array, origin: number, preSamples: number, p
     if (++dst === M) dst = 0
   }
   return out
+}
+
+/** The spectrum (length M + 2) of cutWindow's cut: the window itself lives in a reused buffer. */
+export function windowSpectrum(h: Float64Array, origin: number, preSamples: number, postSamples: number, M: number): Float64Array {
+  return rfft(cutWindow(h, origin, preSamples, postSamples, M, workBuffer('window', M).fill(0)), M)
 }
 
 /**

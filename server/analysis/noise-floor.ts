@@ -9,8 +9,8 @@
  * window in proportion to the sum of its squared weights), it is the noise in that figure's spectrum.
  * The judge reads figures with the uncertainties and floors made from it.
  */
-import { cutWindow, windowEnergy } from './dsp.ts'
-import { nextPowerOfTwo, rfft } from './fft.ts'
+import { windowEnergy, windowSpectrum } from './dsp.ts'
+import { nextPowerOfTwo } from './fft.ts'
 
 /** Width of the bands the noise is averaged over (one-sixth octave: narrow enough to follow a hum line's neighbourhood). */
 export const NOISE_BAND_OCT = 1 / 6
@@ -74,7 +74,7 @@ export class NoiseSpectrum {
     const place = noiseWindowPlace(h.length, linearEnd, pre, post, harmonicSpan)
     if (!place) return null
     const M = nextPowerOfTwo(pre + place.post)
-    return new NoiseSpectrum(rfft(cutWindow(h, place.origin, pre, place.post, M), M), M, fs, windowEnergy(pre, place.post))
+    return new NoiseSpectrum(windowSpectrum(h, place.origin, pre, place.post, M), M, fs, windowEnergy(pre, place.post))
   }
 
   /**

@@ -6,9 +6,9 @@
  */
 import type { SweepContext } from '../context.ts'
 import { DEFAULT_THD_AT_HZ, PRE_WINDOW_S } from '../constants.ts'
-import { cutWindow, interpLog, windowEnergy } from '../dsp.ts'
+import { interpLog, windowEnergy, windowSpectrum } from '../dsp.ts'
 import { THD_CLEAR_RATIO } from '../noise-floor.ts'
-import { binInterp, nextPowerOfTwo, rfft } from '../fft.ts'
+import { binInterp, nextPowerOfTwo } from '../fft.ts'
 import { harmonicDelayS } from '../sweep.ts'
 import type { ThdAtPoint } from '../types.ts'
 
@@ -47,8 +47,7 @@ export function distortion(ctx: SweepContext): void {
     const pre = Math.max(HARMONIC_MIN_PRE_SAMPLES, Math.round(Math.min(PRE_WINDOW_S * fs, HARMONIC_PRE_GAP_FRACTION * gapBefore)))
     const post = Math.round(HARMONIC_POST_GAP_FRACTION * gapAfter)
     const M = nextPowerOfTwo(pre + post + 1)
-    const seg = cutWindow(ha, peakIdx - Math.round(dk), pre, post, M)
-    specs.push({ k, spec: rfft(seg, M), M, energy: windowEnergy(pre, post) })
+    specs.push({ k, spec: windowSpectrum(ha, peakIdx - Math.round(dk), pre, post, M), M, energy: windowEnergy(pre, post) })
   }
   const harmonicPct = (k: number, f: number): number | null => {
     if (f < fLoValid || k * f > fTopValid) return null

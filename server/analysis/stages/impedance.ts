@@ -7,8 +7,8 @@
  * windowed spectrum on the grid between the usable band's edges.
  */
 import type { SweepContext } from '../context.ts'
-import { cutWindow, impulseResponse } from '../dsp.ts'
-import { binInterp, rfft, workBuffer } from '../fft.ts'
+import { impulseResponse, windowSpectrum } from '../dsp.ts'
+import { binInterp, workBuffer } from '../fft.ts'
 
 export function impedance(ctx: SweepContext): void {
   const { N, freqHz, curves, senseOhm: R } = ctx
@@ -23,7 +23,7 @@ export function impedance(ctx: SweepContext): void {
   // The terminal voltage is the amplifier's output less the sense resistor's drop: Xd = Xa − Xs.
   // Only its windowed part is kept: the response itself lives in a reused buffer.
   const hs = impulseResponse(Xs, Xa, N, Xs, workBuffer('admittance impulse response', N))
-  const Yw = rfft(cutWindow(hs, 0, preN, linN, M), M)
+  const Yw = windowSpectrum(hs, 0, preN, linN, M)
   const zMag: (number | null)[] = []
   const zPh: (number | null)[] = []
   for (const f of freqHz) {

@@ -8,9 +8,9 @@
 import type { SweepContext } from '../context.ts'
 import { channelStat } from '../context.ts'
 import { HARMONIC_SPAN_MARGIN, NO_SOUND_SNR_DB, REFERENCE_DISTANCE_M, REFERENCE_DRIVE_V, REFERENCE_PRESSURE_PA, speedOfSoundMs } from '../constants.ts'
-import { cutWindow, impulseResponse, windowEnergy, wrapDeg } from '../dsp.ts'
+import { impulseResponse, windowEnergy, windowSpectrum, wrapDeg } from '../dsp.ts'
 import { levelUncertaintyDb, NOISE_BAND_OCT, NoiseSpectrum } from '../noise-floor.ts'
-import { binInterp, rfft } from '../fft.ts'
+import { binInterp } from '../fft.ts'
 
 /**
  * The acoustic impulse is the largest sample of the response within this time of the drive: a mic
@@ -55,7 +55,7 @@ export function response(ctx: SweepContext): void {
     }
   }
   params.acousticDelayMs = (1000 * peakIdx) / fs
-  const Ha = rfft(cutWindow(ha, 0, preN, linN, M), M)
+  const Ha = windowSpectrum(ha, 0, preN, linN, M)
   const noise = NoiseSpectrum.of(ha, fs, linN, preN, linN, Math.ceil(HARMONIC_SPAN_MARGIN * profile.sweep.durationS * fs))
   const linEnergy = windowEnergy(preN, linN)
   ctx.acoustic = { ha, Ha, peakIdx, noise }
