@@ -137,7 +137,7 @@ export async function seed(knex: Knex): Promise<void> {
       // of the resonance peak (a unit with Fs 1 Hz off the golden mean leaves it); Fs, Qts and Re judge the impedance.
       const maskId = await createMaskFromGolden(knex, { product: p.code, goldenSerials, name: `First release, from ${goldenSerials.length} golden units` }, ctx.users.engineer)
       await knex('masks').where({ id: maskId }).update({ created_at: at(ctx, plan.maskReleaseAtMin - 15) })
-      await releaseAndJudge(knex, maskId, ctx.users.engineer, 'First mask of the product, from the first lot\'s golden units', at(ctx, plan.maskReleaseAtMin))
+      await releaseAndJudge(knex, maskId, ctx.users.engineer, 'First mask of the product, from the first lot\'s golden units', { at: at(ctx, plan.maskReleaseAtMin) })
     }
 
     // 3. Everything else, in time order, judged by mask v1. A few recordings in flight at once so the

@@ -1,52 +1,50 @@
 /**
  * Proposed mask limits from golden units: the statistical starting point of a new mask, before the
- * engineer edits, previews and releases it.
+ * engineer edits, previews and releases it. An engineer under time pressure releases what is
+ * proposed, so the proposal accounts for how few units it saw.
  *
- * Pure: no database, no HTTP. Every limit is the golden mean ± max(k·σ, floor), with σ the sample
- * standard deviation (n − 1 in the denominator, Bessel's correction; NIST/SEMATECH e-Handbook of
- * Statistical Methods, "Measures of Scale", section 1.3.5.6 from memory). k = 3 by default: for a
- * normal population mean ± 3σ holds about 99.73 % of good units (the three-sigma convention of
- * Shewhart control limits, e-Handbook chapter 6.3). The floor keeps a limit from collapsing onto the measurement's own
- * repeatability when the golden units happen to agree closely (common practice).
+ * Pure: no database, no HTTP. Each limit is the golden mean ± max(k·s, floor):
+ * - k is a normal tolerance factor for the n golden units (NIST/SEMATECH e-Handbook 7.2.6.3):
+ *   two-sided k2 for a limit on both sides, one-sided k1 for THD and rub and buzz (upper only). The
+ *   mask's coverage p is the share of good units the whole mask should pass, so each of its m limits
+ *   gets coverage 1 − (1 − p)/m (Bonferroni: the shares each limit leaves out add up to at most
+ *   1 − p), all at confidence γ. A curve counts as one limit, every point with that coverage.
+ * - s is the sample standard deviation (n − 1 in the denominator, Bessel's correction).
+ * - The floor keeps a limit from being narrower than a data sheet's tolerance when the golden units
+ *   happen to agree closely (per product, shared/utils/mask.ts DEFAULT_FLOORS, common practice).
+ * - An engineer may ask for a fixed k instead (every limit then says "k·s").
  *
- * The engineer edits every proposed figure afterwards; these are starting points, not rules.
+ * The proposal records for every limit which rule set it, the n and the k; the engineer edits
+ * every figure afterwards.
  */
-import { summarize } from '../stats/summary.ts'
+import { summarize, type Summary } from '../stats/summary.ts'
+import { oneSidedToleranceFactor, robustSd, twoSidedToleranceFactor } from '../stats/tolerance.ts'
 import { DomainError } from '../../shared/utils/domain-error.ts'
 import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import { DEFAULT_SWEEP, OCTAVE_RATIO_BASE10, valueAtHz } from '../analysis/index.ts'
 import type { AnalysisCurves, AnalysisFlags, AnalysisParameters } from '../analysis/index.ts'
-import { SCALAR_LIMIT_NAMES, figureValue, type MaskLimits, type ScalarLimitName } from '../../shared/utils/mask.ts'
+import {
+  DEFAULT_CONFIDENCE,
+  DEFAULT_COVERAGE,
+  DEFAULT_DECISION_RULE,
+  CHECK_LABELS,
+  DEFAULT_FLOORS,
+  SCALAR_LIMIT_NAMES,
+  UPPER_ONLY,
+  figureValue,
+  floorOf,
+  type DecisionRule,
+  type FloorName,
+  type LimitFloors,
+  type MaskLimits,
+  type ScalarLimitName,
+} from '../../shared/utils/mask.ts'
+import type { CurveBasis, LimitBasis, MaskProposal, ProposalWarning } from '../../shared/types/api.ts'
 
 /** Fewer golden units than this gives a standard deviation too uncertain to build limits on. */
 export const MIN_GOLDEN_UNITS = 5
-export const DEFAULT_K = 3
-/** Response-curve floor, dB (our default: keeps the band off the response's own repeatability when the golden curves agree closely). */
-export const DEFAULT_CURVE_FLOOR_DB = 1.5
-/** Impedance-curve floor as a fraction of the mean |Z| at each frequency: ±5 % (our choice, common practice in spirit). */
-export const DEFAULT_IMPEDANCE_FLOOR_FRACTION = 0.05
-
-/**
- * Minimum half-width of each scalar limit, in the figure's own unit. Our choices, sized a little
- * above what a station repeats to on the same unit (from memory of typical end-of-line gauges):
- * - Re at 20 °C: 0.1 Ω (a couple of per cent of a 4–8 Ω driver's Re);
- * - Fs: 2 Hz (a woofer's Fs drifts by about that with cone temperature and exercise);
- * - Qts: 0.02;
- * - sensitivity: 0.5 dB;
- * - THD max: 0.5 percentage points (upper limit only);
- * - rub and buzz: 3 dB (upper limit only; the metric is a level re the fundamental, in dB).
- */
-export const DEFAULT_SCALAR_FLOORS: Readonly<Record<ScalarLimitName, number>> = Object.freeze({
-  re20Ohm: 0.1,
-  fsHz: 2,
-  qts: 0.02,
-  sensitivityDb: 0.5,
-  thdMaxPct: 0.5,
-  rubBuzzDb: 3,
-})
-
-/** Figures judged against an upper limit only: less distortion or less rub and buzz is never a fault. */
-export const UPPER_ONLY: ReadonlySet<ScalarLimitName> = new Set(['thdMaxPct', 'rubBuzzDb'])
+/** Below this many golden units the proposal warns: the tolerance factors grow fast and σ is rough. */
+export const FEW_GOLDEN_UNITS = 8
 
 /** What proposeLimits reads from one golden unit's result (an AnalysisResult fits, as does a stored result). */
 export interface GoldenResult {
@@ -80,9 +78,15 @@ export interface CurveProposalOptions {
 }
 
 export interface ProposeOptions {
-  /** Multiplier of σ (default 3). */
+  /** A fixed multiplier of σ instead of the tolerance factor. */
   k?: number
-  /** Floor of the response band, dB (default 1.5). */
+  /** Share of good units the whole mask should pass (default 0.99). */
+  coverage?: number
+  /** Confidence of each tolerance interval (default 0.95). */
+  confidence?: number
+  /** The product's floors (absent names: the defaults). */
+  floors?: LimitFloors
+  /** Floor of the response band, dB, overriding the product's. */
   floorDb?: number
   /** Response band range; default the sweep band less its last one-third octave. */
   fromHz?: number
@@ -91,12 +95,13 @@ export interface ProposeOptions {
   sweepBandHz?: [number, number]
   /** Per-side overrides and extra-margin regions of the response band. */
   response?: Omit<CurveProposalOptions, 'fromHz' | 'toHz'> | false
-  /** Propose an impedance-curve band too (off by default); floors are fractions of the mean |Z|. */
-  impedance?: (CurveProposalOptions & { floorFraction?: number }) | boolean
+  /** Propose an impedance-curve band too (off by default); side floors are fractions of the mean |Z|. */
+  impedance?: CurveProposalOptions | boolean
   /** Band for the THD maximum (default: the whole measured band). */
   thdBandHz?: [number, number]
-  /** Overrides of the scalar floors; a name mapped to null leaves that figure without a limit. */
-  scalarFloors?: Partial<Record<ScalarLimitName, number | null>>
+  /** Figures left without a limit. */
+  omit?: readonly ScalarLimitName[]
+  decisionRule?: DecisionRule
 }
 
 export const PROPOSE_ERROR_CODES = ['too_few_golden_units', 'invalid_proposal_options'] as const satisfies readonly ErrorCode[]
@@ -104,8 +109,6 @@ export type ProposeErrorCode = (typeof PROPOSE_ERROR_CODES)[number]
 
 /** A proposal that cannot be made. */
 export class ProposeError extends DomainError<ProposeErrorCode> {}
-
-
 
 /** Half-width of a limit: max(k·σ, floor). */
 export function halfWidth(sd: number, k: number, floor: number): number {
@@ -125,6 +128,15 @@ function checkPositive(name: string, v: number | undefined) {
   if (v !== undefined && !(Number.isFinite(v) && v >= 0)) throw new ProposeError('invalid_proposal_options', `${name} must be a finite number ≥ 0`)
 }
 
+function checkShare(name: string, v: number) {
+  if (!(v > 0 && v < 1)) throw new ProposeError('invalid_proposal_options', `${name} must lie between 0 and 1 (got ${v})`)
+}
+
+/** A floor as a half-width in the figure's own unit: '%' floors are shares of the golden mean. */
+export function floorHalfWidth(name: FloorName, floor: number, mean: number): number {
+  return DEFAULT_FLOORS[name].unit === '%' ? (floor / 100) * Math.abs(mean) : floor
+}
+
 /** A curve's value at grid point i (frequency f): exact when the grids agree there, else interpolated. */
 function pointValue(freqHz: readonly number[], values: readonly (number | null)[], i: number, f: number): number | null {
   const fi = freqHz[i]
@@ -132,24 +144,63 @@ function pointValue(freqHz: readonly number[], values: readonly (number | null)[
   return valueAtHz(freqHz, values, f)
 }
 
+/**
+ * The multiplier of s for n golden units: the fixed k when asked for, else the tolerance factor at
+ * the per-limit coverage (two-sided, or one-sided for an upper limit only). Cached per n.
+ */
+class Factors {
+  private cache = new Map<string, number>()
+  constructor(
+    readonly fixedK: number | null,
+    readonly coverage: number,
+    readonly confidence: number,
+  ) {}
+
+  k(n: number, oneSided = false): number {
+    if (this.fixedK !== null) return this.fixedK
+    const key = `${n}:${oneSided}`
+    let k = this.cache.get(key)
+    if (k === undefined) {
+      k = oneSided ? oneSidedToleranceFactor(n, this.coverage, this.confidence) : twoSidedToleranceFactor(n, this.coverage, this.confidence)
+      this.cache.set(key, k)
+    }
+    return k
+  }
+
+  rule(k: number, sd: number, floor: number): LimitBasis['rule'] {
+    if (k * sd >= floor) return this.fixedK !== null ? 'k_sigma' : 'interval'
+    return 'floor'
+  }
+}
+
+interface SideSpec {
+  /** A k of this side's own (overrides the factor). */
+  k?: number
+  floor: (mean: number) => number
+}
+
 interface CurveBandSpec {
   fromHz: number
   toHz: number
-  upper: { k: number; floor: (mean: number) => number }
-  lower: { k: number; floor: (mean: number) => number }
+  upper: SideSpec
+  lower: SideSpec
   regions: MarginRegion[]
 }
 
+type CurveLimit = NonNullable<MaskLimits['curves']['splDb']>
+
 /**
- * The band mean ± max(k·σ, floor) at each point of the golden units' standard grid within
- * [fromHz, toHz]. A point where fewer than MIN_GOLDEN_UNITS curves have a value stays open (null),
- * which judge() skips. Returns undefined when no golden unit has this curve.
+ * The band mean ± max(k·s, floor) at each point of the golden units' standard grid within
+ * [fromHz, toHz], k for the number of curves with a value there. A point where fewer than
+ * MIN_GOLDEN_UNITS curves have a value stays open (null), which judge() skips. Returns undefined
+ * when no golden unit has this curve.
  */
 export function proposeCurveBand(
   golden: readonly GoldenResult[],
   curve: 'splDb' | 'impedanceOhm',
   spec: CurveBandSpec,
-): NonNullable<MaskLimits['curves']['splDb']> | undefined {
+  factors: Factors,
+): { limit: CurveLimit; basis: CurveBasis } | undefined {
   const withCurve = golden.filter((g) => g.curves[curve])
   if (withCurve.length === 0) return undefined
   // Every result shares the standard grid from 10 Hz; the longest one covers the others.
@@ -158,6 +209,9 @@ export function proposeCurveBand(
   const freqHz: number[] = []
   const low: (number | null)[] = []
   const high: (number | null)[] = []
+  let minN = Number.POSITIVE_INFINITY
+  let byFloor = 0
+  let byInterval = 0
   grid.forEach((f, i) => {
     if (f < spec.fromHz * (1 - tol) || f > spec.toHz * (1 + tol)) return
     const s = summarize(withCurve.map((g) => pointValue(g.curves.freqHz, g.curves[curve]!, i, f)))
@@ -167,8 +221,17 @@ export function proposeCurveBand(
       high.push(null)
       return
     }
-    let up = halfWidth(s.sd, spec.upper.k, spec.upper.floor(s.mean))
-    let down = halfWidth(s.sd, spec.lower.k, spec.lower.floor(s.mean))
+    minN = Math.min(minN, s.n)
+    const kAll = factors.k(s.n)
+    const side = (sp: SideSpec) => {
+      const k = sp.k ?? kAll
+      const floor = sp.floor(s.mean)
+      if (k * s.sd >= floor) byInterval++
+      else byFloor++
+      return halfWidth(s.sd, k, floor)
+    }
+    let up = side(spec.upper)
+    let down = side(spec.lower)
     for (const r of spec.regions) {
       if (f >= r.fromHz && f <= r.toHz) {
         up += r.upper ?? 0
@@ -178,66 +241,113 @@ export function proposeCurveBand(
     high.push(round(s.mean + up))
     low.push(round(s.mean - down))
   })
-  if (freqHz.length < 2) return undefined
-  return { freqHz, low, high }
+  if (freqHz.length < 2 || !Number.isFinite(minN)) return undefined
+  const rule: CurveBasis['rule'] = byFloor === 0 ? (factors.fixedK !== null ? 'k_sigma' : 'interval') : byInterval === 0 ? 'floor' : 'mixed'
+  return {
+    limit: { freqHz, low, high },
+    basis: { rule, n: minN, k: round(factors.k(minN), 4), coverage: factors.coverage, sides: byFloor + byInterval, sidesByFloor: byFloor },
+  }
+}
+
+/** What the figures' golden summaries are; a figure fewer than MIN_GOLDEN_UNITS measured is left out. */
+function scalarSummaries(golden: readonly GoldenResult[], opts: ProposeOptions): Map<ScalarLimitName, Summary> {
+  const out = new Map<ScalarLimitName, Summary>()
+  for (const name of SCALAR_LIMIT_NAMES) {
+    if (opts.omit?.includes(name)) continue
+    const s = summarize(golden.map((g) => figureValue(g, name, opts.thdBandHz)))
+    if (s && s.n >= MIN_GOLDEN_UNITS) out.set(name, s)
+  }
+  return out
 }
 
 /**
- * Proposes a mask from golden units: scalar limits for Re (20 °C), Fs, Qts and sensitivity as
- * mean ± max(k·σ, floor); THD max and rub and buzz as upper limits only; polarity must be normal;
- * the rated-impedance rule of IEC 60268-5 on; a response band (and, when asked, an impedance band)
- * on the standard grid. A figure that fewer than MIN_GOLDEN_UNITS golden units measured gets no
- * limit (e.g. sensitivity when most goldens are impedance tables).
- * @throws ProposeError `too_few_golden_units` below MIN_GOLDEN_UNITS, `invalid_proposal_options` for a bad k, floor or range.
+ * Proposes a mask from golden units, with how each limit was set: scalar limits for the figures at
+ * least MIN_GOLDEN_UNITS golden units measured (THD max and rub and buzz as upper limits only);
+ * polarity must be normal; the rated-impedance rule of IEC 60268-5 on; a response band (and, when
+ * asked, an impedance band) on the standard grid.
+ * @throws ProposeError `too_few_golden_units` below MIN_GOLDEN_UNITS, `invalid_proposal_options` for a bad k, floor, share or range.
  */
-export function proposeLimits(golden: readonly GoldenResult[], opts: ProposeOptions = {}): MaskLimits {
+export function proposeMask(golden: readonly GoldenResult[], opts: ProposeOptions = {}): { limits: MaskLimits; proposal: MaskProposal } {
   if (golden.length < MIN_GOLDEN_UNITS) {
     throw new ProposeError('too_few_golden_units', `A mask needs at least ${MIN_GOLDEN_UNITS} golden units; ${golden.length} given`)
   }
-  const k = opts.k ?? DEFAULT_K
-  checkPositive('k', k)
+  const coverage = opts.coverage ?? DEFAULT_COVERAGE
+  const confidence = opts.confidence ?? DEFAULT_CONFIDENCE
+  checkShare('coverage', coverage)
+  checkShare('confidence', confidence)
+  checkPositive('k', opts.k)
   checkPositive('floorDb', opts.floorDb)
-
-  const scalars: MaskLimits['scalars'] = {}
-  for (const name of SCALAR_LIMIT_NAMES) {
-    const floor = opts.scalarFloors?.[name] === undefined ? DEFAULT_SCALAR_FLOORS[name] : opts.scalarFloors[name]
-    if (floor === null) continue
-    checkPositive(`scalarFloors.${name}`, floor)
-    const s = summarize(golden.map((g) => figureValue(g, name, opts.thdBandHz)))
-    if (!s || s.n < MIN_GOLDEN_UNITS) continue
-    const w = halfWidth(s.sd, k, floor)
-    scalars[name] = UPPER_ONLY.has(name) ? { low: null, high: round(s.mean + w) } : { low: round(s.mean - w), high: round(s.mean + w) }
-  }
+  for (const [name, v] of Object.entries(opts.floors ?? {})) checkPositive(`floors.${name}`, v)
 
   const sweepBand = opts.sweepBandHz ?? [DEFAULT_SWEEP.f1Hz, DEFAULT_SWEEP.f2Hz]
   const [defFrom, defTo] = defaultCurveRange(sweepBand)
+  const floors = opts.floors
+  const responseSpec =
+    opts.response === false
+      ? null
+      : bandSpec(opts.fromHz ?? defFrom, opts.toHz ?? defTo, opts.response ?? {}, () => opts.floorDb ?? floorOf(floors, 'splDb'), (v) => () => v)
+  const z = opts.impedance ? (opts.impedance === true ? {} : opts.impedance) : null
+  const fraction = floorOf(floors, 'impedanceOhm') / 100
+  // Side floors, when given, are fractions of the mean too.
+  const impedanceSpec = z ? bandSpec(z.fromHz ?? defFrom, z.toHz ?? defTo, z, (m) => fraction * m, (v) => (m) => v * m) : null
+
+  // The limits the mask will hold, to share the coverage among them.
+  const summaries = scalarSummaries(golden, opts)
+  const hasCurve = (c: 'splDb' | 'impedanceOhm') => golden.filter((g) => g.curves[c]).length >= MIN_GOLDEN_UNITS
+  const curveCount = (responseSpec && hasCurve('splDb') ? 1 : 0) + (impedanceSpec && hasCurve('impedanceOhm') ? 1 : 0)
+  const limitCount = Math.max(1, summaries.size + curveCount)
+  const perLimit = 1 - (1 - coverage) / limitCount
+  const factors = new Factors(opts.k ?? null, perLimit, confidence)
+
+  const scalars: MaskLimits['scalars'] = {}
+  const scalarBasis: MaskProposal['scalars'] = {}
+  for (const [name, s] of summaries) {
+    const upperOnly = UPPER_ONLY.has(name)
+    const k = factors.k(s.n, upperOnly)
+    const floor = floorHalfWidth(name, floorOf(floors, name), s.mean)
+    const w = halfWidth(s.sd, k, floor)
+    scalars[name] = upperOnly ? { low: null, high: round(s.mean + w) } : { low: round(s.mean - w), high: round(s.mean + w) }
+    scalarBasis[name] = { rule: factors.rule(k, s.sd, floor), n: s.n, k: round(k, 4), mean: round(s.mean, 6), sd: round(s.sd, 4), floor: round(floor, 4), coverage: perLimit, oneSided: upperOnly }
+  }
+
   const curves: MaskLimits['curves'] = {}
-
-  if (opts.response !== false) {
-    const r = opts.response ?? {}
-    const floorDb = opts.floorDb ?? DEFAULT_CURVE_FLOOR_DB
-    const spec = bandSpec(opts.fromHz ?? defFrom, opts.toHz ?? defTo, k, r, () => floorDb, (v) => () => v)
-    const band = proposeCurveBand(golden, 'splDb', spec)
-    if (band) curves.splDb = band
+  const curveBasis: MaskProposal['curves'] = {}
+  for (const [name, spec] of [['splDb', responseSpec], ['impedanceOhm', impedanceSpec]] as const) {
+    const band = spec && proposeCurveBand(golden, name, spec, factors)
+    if (!band) continue
+    curves[name] = band.limit
+    curveBasis[name] = band.basis
   }
 
-  if (opts.impedance) {
-    const z = opts.impedance === true ? {} : opts.impedance
-    const fraction = z.floorFraction ?? DEFAULT_IMPEDANCE_FLOOR_FRACTION
-    checkPositive('impedance.floorFraction', fraction)
-    // Side floors, when given, are fractions of the mean too.
-    const spec = bandSpec(z.fromHz ?? defFrom, z.toHz ?? defTo, k, z, (m) => fraction * m, (v) => (m) => v * m)
-    const band = proposeCurveBand(golden, 'impedanceOhm', spec)
-    if (band) curves.impedanceOhm = band
+  const warnings: ProposalWarning[] = []
+  if (golden.length < FEW_GOLDEN_UNITS) {
+    warnings.push({
+      code: 'few_golden_units',
+      text: `Only ${golden.length} golden units: with fewer than ${FEW_GOLDEN_UNITS} the spread is rough and the tolerance factors large. Add golden units if you can.`,
+    })
   }
+  const limits: MaskLimits = {
+    scalars,
+    polarityNormal: true,
+    ratedImpedanceRule: true,
+    curves,
+    thdBandHz: opts.thdBandHz ?? null,
+    decisionRule: opts.decisionRule ?? DEFAULT_DECISION_RULE,
+  }
+  return {
+    limits,
+    proposal: { coverage, confidence, fixedK: opts.k ?? null, limitCount, coveragePerLimit: perLimit, goldenUnits: golden.length, scalars: scalarBasis, curves: curveBasis, warnings, spread: {}, proposedLimits: limits },
+  }
+}
 
-  return { scalars, polarityNormal: true, ratedImpedanceRule: true, curves, thdBandHz: opts.thdBandHz ?? null }
+/** The limits alone (see proposeMask). */
+export function proposeLimits(golden: readonly GoldenResult[], opts: ProposeOptions = {}): MaskLimits {
+  return proposeMask(golden, opts).limits
 }
 
 function bandSpec(
   fromHz: number,
   toHz: number,
-  k: number,
   o: Omit<CurveProposalOptions, 'fromHz' | 'toHz'>,
   floor: (mean: number) => number,
   sideFloor: (v: number) => (mean: number) => number,
@@ -255,8 +365,49 @@ function bandSpec(
   return {
     fromHz,
     toHz,
-    upper: { k: o.upper?.k ?? k, floor: o.upper?.floor !== undefined ? sideFloor(o.upper.floor) : floor },
-    lower: { k: o.lower?.k ?? k, floor: o.lower?.floor !== undefined ? sideFloor(o.lower.floor) : floor },
+    upper: { k: o.upper?.k, floor: o.upper?.floor !== undefined ? sideFloor(o.upper.floor) : floor },
+    lower: { k: o.lower?.k, floor: o.lower?.floor !== undefined ? sideFloor(o.lower.floor) : floor },
     regions: o.regions ?? [],
   }
+}
+
+/** Production units the spread comparison needs before it says anything. */
+export const MIN_HISTORY_UNITS = 30
+/** Golden σ below this share of production's robust σ draws the warning (our choice: half). */
+export const GOLDEN_SPREAD_RATIO_WARN = 0.5
+
+/**
+ * The golden units' spread against the product's production (each unit's latest result, golden
+ * units left out), per figure: the golden sample standard deviation over production's robust σ
+ * (1.4826 × MAD, so a few defective units do not widen it). A ratio below GOLDEN_SPREAD_RATIO_WARN
+ * with at least MIN_HISTORY_UNITS production units draws a warning: limits from units more alike
+ * than the line reject good units (the floors soften this; the warning says so).
+ */
+export function compareSpreads(
+  golden: readonly GoldenResult[],
+  history: readonly GoldenResult[],
+  thdBandHz?: readonly [number, number] | null,
+): { spread: MaskProposal['spread']; warnings: ProposalWarning[] } {
+  const spread: MaskProposal['spread'] = {}
+  const warnings: ProposalWarning[] = []
+  for (const name of SCALAR_LIMIT_NAMES) {
+    const g = summarize(golden.map((r) => figureValue(r, name, thdBandHz)))
+    const values = history.map((r) => figureValue(r, name, thdBandHz)).filter((v): v is number => v !== null && Number.isFinite(v))
+    const historySd = robustSd(values)
+    if (!g || g.n < MIN_GOLDEN_UNITS || historySd === null || !(historySd > 0)) continue
+    const ratio = g.sd / historySd
+    spread[name] = { goldenSd: round(g.sd, 4), goldenN: g.n, historySd: round(historySd, 4), historyN: values.length, ratio: round(ratio, 3) }
+    if (values.length >= MIN_HISTORY_UNITS && ratio < GOLDEN_SPREAD_RATIO_WARN) {
+      warnings.push({
+        code: 'golden_more_alike',
+        figure: name,
+        text: `${CHECK_LABELS[name]!.label}: these golden units are more alike than your production (σ ${fmt(g.sd)} against ${fmt(historySd)} over ${values.length} production units); expect false fails unless the floor covers production's spread.`,
+      })
+    }
+  }
+  return { spread, warnings }
+}
+
+function fmt(x: number): string {
+  return Number(x.toPrecision(2)).toString()
 }

@@ -2,7 +2,7 @@ import { DomainError } from '../../shared/utils/domain-error.ts'
 import type { ErrorCode } from '../../shared/utils/error-codes.ts'
 import type { Knex } from 'knex'
 import { maskLimitsSchema, type MaskLimits, type MaskLimitsInput, type MaskStatus } from '../../shared/utils/mask.ts'
-import type { MaskSummary } from '../../shared/types/api.ts'
+import type { MaskProposal, MaskSummary } from '../../shared/types/api.ts'
 
 /** A change the mask's state does not allow (e.g. editing a released mask). */
 export const MASK_STATE_ERROR_CODES = ['mask_not_draft', 'mask_not_released', 'mask_older_than_active', 'unknown_mask'] as const satisfies readonly ErrorCode[]
@@ -22,6 +22,8 @@ export interface MaskRow {
   name: string
   limits: unknown
   options: Record<string, unknown>
+  /** jsonb: how the limits were proposed (null for masks made before proposals were recorded). */
+  proposal: MaskProposal | null
   created_by: string | null
   created_at: Date
   released_at: Date | null
@@ -83,9 +85,12 @@ export async function listMasks(db: Knex, filter: { productCode?: string }): Pro
   return ((await q) as SummaryRow[]).map(toSummary)
 }
 
-export async function getMaskSummary(db: Knex, id: number): Promise<(MaskSummary & { productId: number; limits: MaskLimits; options: Record<string, unknown> }) | undefined> {
+export async function getMaskSummary(
+  db: Knex,
+  id: number,
+): Promise<(MaskSummary & { productId: number; limits: MaskLimits; options: Record<string, unknown>; proposal: MaskProposal | null }) | undefined> {
   const r = (await summaryQuery(db).where('m.id', id).first()) as SummaryRow | undefined
-  return r && { ...toSummary(r), productId: Number(r.product_id), limits: maskLimitsSchema.parse(r.limits), options: r.options }
+  return r && { ...toSummary(r), productId: Number(r.product_id), limits: maskLimitsSchema.parse(r.limits), options: r.options, proposal: r.proposal ?? null }
 }
 
 export interface GoldenRef {
@@ -105,6 +110,7 @@ export interface NewMask {
   limits: MaskLimitsInput
   createdBy: number | null
   options?: Record<string, unknown>
+  proposal?: MaskProposal
   golden?: GoldenRef[]
 }
 
@@ -122,6 +128,7 @@ export async function createMaskDraft(db: Knex, m: NewMask): Promise<number> {
         name: m.name,
         limits: JSON.stringify(maskLimitsSchema.parse(m.limits)),
         options: JSON.stringify(m.options ?? {}),
+        proposal: m.proposal ? JSON.stringify(m.proposal) : null,
         created_by: m.createdBy,
       })
       .returning('id')

@@ -4,6 +4,7 @@ import type { ProductView } from '../../shared/types/api.ts'
 import type { ProductListItem } from '../../shared/utils/product.ts'
 import { coilSchema, expectedRe20Ohm, DEFAULT_RE_WARN_PCT, type Coil } from '../../shared/utils/coil.ts'
 import { DEFAULT_RETEST_LIMIT } from '../../shared/utils/verdict.ts'
+import { DEFAULT_FALSE_REJECT_MAX_PCT, limitFloorsSchema, type LimitFloors } from '../../shared/utils/mask.ts'
 import type { Knex } from 'knex'
 import { isUniqueViolation } from './pg-errors.ts'
 
@@ -20,6 +21,9 @@ export interface ProductRow {
   coil?: unknown
   re_warn_pct?: number
   retest_limit?: number
+  /** jsonb, shared/utils/mask.ts limitFloorsSchema. */
+  limit_floors?: unknown
+  false_reject_max_pct?: number
 }
 
 /** A product as the API shows it (shared type). */
@@ -52,6 +56,8 @@ export function toProduct(r: ProductRow): ProductSummary {
     expectedRe20Ohm: coil ? Number(expectedRe20Ohm(coil).toFixed(RE_DECIMALS)) : null,
     reWarnPct: r.re_warn_pct ?? DEFAULT_RE_WARN_PCT,
     retestLimit: r.retest_limit ?? DEFAULT_RETEST_LIMIT,
+    limitFloors: limitFloorsSchema.safeParse(r.limit_floors ?? {}).data ?? {},
+    falseRejectMaxPct: r.false_reject_max_pct ?? DEFAULT_FALSE_REJECT_MAX_PCT,
   }
 }
 
@@ -89,6 +95,8 @@ export interface NewProduct {
   coil?: Coil | null
   reWarnPct?: number
   retestLimit?: number
+  limitFloors?: LimitFloors
+  falseRejectMaxPct?: number
 }
 
 
@@ -109,6 +117,8 @@ export async function createProduct(db: Knex, p: NewProduct): Promise<number> {
         coil: p.coil ? JSON.stringify(p.coil) : null,
         re_warn_pct: p.reWarnPct ?? DEFAULT_RE_WARN_PCT,
         retest_limit: p.retestLimit ?? DEFAULT_RETEST_LIMIT,
+        limit_floors: JSON.stringify(p.limitFloors ?? {}),
+        false_reject_max_pct: p.falseRejectMaxPct ?? DEFAULT_FALSE_REJECT_MAX_PCT,
       })
       .returning('id')
     return Number(row.id)
@@ -147,6 +157,8 @@ export async function updateProduct(db: Knex, code: string, changes: ProductChan
     if (changes.coil !== undefined) update.coil = changes.coil ? JSON.stringify(changes.coil) : null
     if (changes.reWarnPct !== undefined) update.re_warn_pct = changes.reWarnPct
     if (changes.retestLimit !== undefined) update.retest_limit = changes.retestLimit
+    if (changes.limitFloors !== undefined) update.limit_floors = JSON.stringify(changes.limitFloors)
+    if (changes.falseRejectMaxPct !== undefined) update.false_reject_max_pct = changes.falseRejectMaxPct
     try {
       await trx('products').where({ id: row.id }).update({ ...update, updated_at: trx.fn.now() })
     } catch (err) {

@@ -11,15 +11,27 @@ import { listProfilesOfRecordings } from '../repos/stations.ts'
 import { serialsOfOtherProducts } from '../repos/units.ts'
 import { listLatestPerUnit, listProductResults, setFirstVerdict, type StoredResult } from '../repos/results.ts'
 import { judge, type Judgement } from '../verdict/judge.ts'
-import { proposeLimits } from '../limits/propose.ts'
+import { compareSpreads, proposeMask } from '../limits/propose.ts'
+import { estimateFalseRejects } from '../limits/false-reject.ts'
 import { summarize } from '../stats/summary.ts'
 
 /** A golden-unit choice the product's data cannot support. */
 export const GOLDEN_ERROR_CODES = ['product_not_found', 'golden_not_measured', 'golden_wrong_product'] as const satisfies readonly ErrorCode[]
 export class GoldenError extends DomainError<(typeof GOLDEN_ERROR_CODES)[number]> {}
 
+/** A release that needs the engineer to confirm it once more. */
+export const RELEASE_ERROR_CODES = ['false_reject_unconfirmed'] as const satisfies readonly ErrorCode[]
+export class ReleaseRiskError extends DomainError<(typeof RELEASE_ERROR_CODES)[number]> {}
+
+/** Production units (each one's latest result) a proposal compares the golden spread with. */
+const HISTORY_UNITS = 2000
+/** Known-good units a preview needs before its false-reject share stands for the mask's (else the golden model does). */
+export const MIN_KNOWN_GOOD = 30
+
 /** Largest number of units a preview lists one by one (the counts cover all). */
 const PREVIEW_LIST_MAX = 500
+/** Units the release gate's preview reads (each unit's latest result). */
+const PREVIEW_UNITS = 2000
 
 /** The units a mask may be built from: each unit's latest production result. */
 export async function listCandidates(db: Knex, productCode: string, limit: number): Promise<MaskCandidate[]> {
@@ -54,11 +66,15 @@ export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, use
     if (elsewhere.length) throw new GoldenError('golden_wrong_product', `Not ${product.code} units: ${elsewhere.join(', ')}`)
     throw new GoldenError('golden_not_measured', `No measured result for: ${missing.join(', ')}`)
   }
-  const { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve, thdBandHz } = input
-  const options = { k, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve, thdBandHz }
+  const { k, coverage, confidence, decisionRule, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve, thdBandHz } = input
+  const options = { k, coverage, confidence, decisionRule, floorDb, fromHz, toHz, upper, lower, regions, impedanceCurve, thdBandHz, floors: product.limitFloors }
   const side = (s?: { k?: number; floorDb?: number }) => s && { k: s.k, floor: s.floorDb }
-  const limits = proposeLimits(golden, {
+  const { limits, proposal } = proposeMask(golden, {
     k,
+    coverage,
+    confidence,
+    decisionRule,
+    floors: product.limitFloors,
     floorDb,
     fromHz,
     toHz,
@@ -67,12 +83,19 @@ export async function createMaskFromGolden(db: Knex, input: MaskCreateInput, use
     impedance: impedanceCurve ?? false,
     thdBandHz,
   })
+  // The golden spread against production's: units more alike than the line make false fails.
+  const goldenSerials = new Set(input.goldenSerials)
+  const history = (await listLatestPerUnit(db, product.id, HISTORY_UNITS)).filter((r) => !goldenSerials.has(r.serial))
+  const compared = compareSpreads(golden, history, thdBandHz)
+  proposal.spread = compared.spread
+  proposal.warnings.push(...compared.warnings)
   return createMaskDraft(db, {
     productId: product.id,
     name: input.name || `From ${golden.length} golden units`,
     limits,
     createdBy: userId,
     options,
+    proposal,
     golden: golden.map((g) => ({ unitId: g.unitId, recordingId: g.recordingId, serial: g.serial })),
   })
 }
@@ -101,15 +124,62 @@ export async function judgeUnjudged(trx: Knex.Transaction, mask: ActiveMask, pro
 
 const JUDGE_BATCH = 500
 
+/** A release's false-reject share (0–1) and where it comes from, as the release gate reads it. */
+export interface ReleaseRisk {
+  share: number
+  basis: 'known_good' | 'golden_model'
+  thresholdPct: number
+}
+
+/**
+ * The false-reject share a draft is expected to have: on the product's known-good units when the
+ * preview has at least MIN_KNOWN_GOOD of them, else from the golden units (normal model).
+ */
+export async function releaseRisk(db: Knex, maskId: number): Promise<ReleaseRisk> {
+  const view = await getMaskView(db, maskId)
+  const preview = (await previewMask(db, maskId, PREVIEW_UNITS))!
+  const product = (await getProductById(db, view.productId))!
+  const known = preview.knownGood
+  return known.units >= MIN_KNOWN_GOOD
+    ? { share: known.draftFails / known.units, basis: 'known_good', thresholdPct: product.falseRejectMaxPct }
+    : { share: view.estimate.overall, basis: 'golden_model', thresholdPct: product.falseRejectMaxPct }
+}
+
+/** A share as people say it: "2.4 % (about 1 good unit in 42)". */
+export function shareInWords(share: number): string {
+  const pct = 100 * share
+  const oneIn = share > 0 ? Math.round(1 / share) : null
+  return `${pct < 0.1 ? pct.toFixed(2) : pct.toFixed(1)} %${oneIn ? ` (about 1 good unit in ${oneIn})` : ''}`
+}
+
 /**
  * Releases a draft and judges the product's never-judged results with it, in one transaction: the
  * product row the release locks stays locked while judging, so no analysis saves a result between.
- * @throws MaskStateError (see releaseMask).
+ * A draft expected to reject more good units than the product's threshold is released only when
+ * the engineer confirmed that figure (`confirmFalseReject`).
+ * @throws ReleaseRiskError `false_reject_unconfirmed`; MaskStateError (see releaseMask).
  */
-export function releaseAndJudge(db: Knex, maskId: number, by: number | null, comment: string, at?: Date): Promise<{ version: number; judgedUnjudged: number }> {
+export async function releaseAndJudge(
+  db: Knex,
+  maskId: number,
+  by: number | null,
+  comment: string,
+  o: { at?: Date; confirmFalseReject?: boolean } = {},
+): Promise<{ version: number; judgedUnjudged: number }> {
+  const risk = await releaseRisk(db, maskId)
+  const over = 100 * risk.share > risk.thresholdPct
+  if (over && !o.confirmFalseReject) {
+    const from = risk.basis === 'known_good' ? "on this product's known-good units" : 'from its golden units'
+    throw new ReleaseRiskError(
+      'false_reject_unconfirmed',
+      `This mask is expected to reject ${shareInWords(risk.share)} of good units (${from}), above the product's ${risk.thresholdPct} % threshold. Release again to confirm.`,
+      { falseRejectPct: Number((100 * risk.share).toFixed(2)), thresholdPct: risk.thresholdPct, basis: risk.basis },
+    )
+  }
   return db.transaction(async (trx) => {
-    const released = await releaseMask(trx, maskId, { by, comment, at })
-    await recordAudit(trx, { userId: by, action: 'mask.release', entity: 'mask', entityId: maskId, comment, detail: { product: released.productCode, version: released.version, replaced: released.replaced } })
+    const released = await releaseMask(trx, maskId, { by, comment, at: o.at })
+    const detail = { product: released.productCode, version: released.version, replaced: released.replaced, falseRejectPct: Number((100 * risk.share).toFixed(2)), falseRejectBasis: risk.basis, confirmedOverThreshold: over }
+    await recordAudit(trx, { userId: by, action: 'mask.release', entity: 'mask', entityId: maskId, comment, detail })
     return { version: released.version, judgedUnjudged: await judgeUnjudged(trx, released.mask, released.productId) }
   })
 }
@@ -167,6 +237,8 @@ export async function getMaskView(db: Knex, id: number): Promise<MaskView> {
       freqHz,
       meanSplDb,
     },
+    proposal: m.proposal,
+    estimate: estimateFalseRejects(golden, m.limits),
     expectedRe20Ohm: expected,
     reWarning:
       off !== null && Math.abs(off) > product.reWarnPct
@@ -196,9 +268,16 @@ export async function previewMask(db: Knex, maskId: number, last: number): Promi
   const byCheck = new Map<string, { newFails: number; newPasses: number }>()
   const changed: MaskPreview['changed'] = []
   let changedTotal = 0
+  // Known good: units whose latest result passed when judged, and the draft's golden units.
+  const golden = new Set((await listGolden(db, maskId)).map((g) => g.serial))
+  const knownGood = { units: 0, draftFails: 0 }
   for (const r of results) {
     const d = judge(r, m.limits as MaskLimits, rated)
     const a = active ? judge(r, active.limits, rated) : null
+    if (r.verdict === 'pass' || golden.has(r.serial)) {
+      knownGood.units++
+      if (d.verdict === 'fail') knownGood.draftFails++
+    }
     draft[d.verdict]++
     if (a) now[a.verdict]++
     const before = failing(a)
@@ -216,10 +295,18 @@ export async function previewMask(db: Knex, maskId: number, last: number): Promi
     considered: results.length,
     draft: { ...draft, yieldPct: yieldOf(draft.pass, draft.fail) },
     active: active ? { maskId: active.id, version: active.version, ...now, yieldPct: yieldOf(now.pass, now.fail) } : null,
-    changed,
+    changed: changed.sort((x, y) => changeRank(x) - changeRank(y)),
     changedTotal,
+    knownGood: { ...knownGood, falseRejectPct: knownGood.units ? Number(((100 * knownGood.draftFails) / knownGood.units).toFixed(2)) : null },
     byCheck: [...byCheck.entries()].map(([check, v]) => ({ check, ...v })).sort((x, y) => y.newFails + y.newPasses - (x.newFails + x.newPasses)),
   }
+}
+
+/** Changes first as they matter at release: newly failing units, then newly passing ones, then the rest (newest first within each). */
+function changeRank(c: MaskPreview['changed'][number]): number {
+  if (c.to === 'fail') return 0
+  if (c.to === 'pass' && c.from === 'fail') return 1
+  return 2
 }
 
 function bump(map: Map<string, { newFails: number; newPasses: number }>, check: string, key: 'newFails' | 'newPasses') {

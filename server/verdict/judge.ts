@@ -1,6 +1,6 @@
 import type { AnalysisCurves, AnalysisFlags, AnalysisParameters, Disturbance } from '../analysis/index.ts'
 import { RATED_IMPEDANCE_MIN_FRACTION } from '../analysis/index.ts'
-import { CHECK_LABELS, SCALAR_LIMIT_NAMES, figureValue, limitAtHz, type MaskLimits } from '../../shared/utils/mask.ts'
+import { CHECK_LABELS, SCALAR_LIMIT_NAMES, figureValue, limitAtHz, type DecisionRule, type MaskLimits } from '../../shared/utils/mask.ts'
 import { COVERAGE_K, THD_CLEAR_RATIO, levelUncertaintyDb } from '../analysis/noise-floor.ts'
 import { EVENT_MARGIN_DB } from '../analysis/transient.ts'
 import type { CheckView } from '../../shared/types/api.ts'
@@ -31,7 +31,7 @@ export interface Judgeable {
     Partial<
       Pick<
         AnalysisParameters,
-        'peakDbfs' | 'levelOffsetDb' | 'sensitivityUncertaintyDb' | 'rubBuzzFloorDb' | 'splUncertaintyDb' | 'thdFloorPct' | 'thdMaxBandHz' | 'disturbances' | 'warnings'
+        'qms' | 'qes' | 'leMh' | 'peakDbfs' | 'levelOffsetDb' | 'sensitivityUncertaintyDb' | 'rubBuzzFloorDb' | 'splUncertaintyDb' | 'thdFloorPct' | 'thdMaxBandHz' | 'disturbances' | 'warnings'
       >
     >
   flags: Pick<AnalysisFlags, 'polarity' | 'openCoil' | 'shortedCoil' | 'noResonance'>
@@ -71,6 +71,19 @@ function stand(value: number, u: number, low: number | null, high: number | null
   return 'straddles'
 }
 
+/**
+ * How a figure with its uncertainty u stands under the mask's decision rule (shared/utils/mask.ts
+ * DECISION_RULES), and whether it is marginal: within its uncertainty of a limit yet decided.
+ * - simple: the value alone decides;
+ * - guarded_fail: only a value inside by more than u passes (the acceptance zone shrinks by u);
+ * - guarded_retest: within u of a limit, on either side, cannot decide.
+ */
+function standBy(rule: DecisionRule, value: number, u: number, low: number | null, high: number | null): { standing: Standing; marginal: boolean } {
+  const s = stand(value, u, low, high)
+  if (rule === 'guarded_retest' || s !== 'straddles') return { standing: s, marginal: false }
+  return { standing: rule === 'simple' ? stand(value, 0, low, high) : 'outside', marginal: true }
+}
+
 /** Why a check could not decide, in the order a retest reason is chosen. */
 type Cause = 'transient' | 'noise' | 'missing'
 
@@ -79,9 +92,10 @@ interface Decided {
   cause: Cause | null
 }
 
-function decided(check: Omit<Check, 'pass'>, standing: Standing, cause: Cause = 'noise'): Decided {
-  if (standing === 'straddles') return { check: { ...check, pass: false, undecided: true }, cause }
-  return { check: { ...check, pass: standing === 'inside' }, cause: null }
+function decided(check: Omit<Check, 'pass'>, standing: Standing | { standing: Standing; marginal: boolean }, cause: Cause = 'noise'): Decided {
+  const { standing: st, marginal } = typeof standing === 'string' ? { standing, marginal: false } : standing
+  if (st === 'straddles') return { check: { ...check, pass: false, undecided: true }, cause }
+  return { check: { ...check, pass: st === 'inside', ...(marginal ? { marginal: true } : {}) }, cause: null }
 }
 
 function inSpan(f: number, spans: readonly Disturbance[]): boolean {
@@ -93,7 +107,7 @@ function inSpan(f: number, spans: readonly Disturbance[]): boolean {
  * decides a fail, unless a transient disturbed that part of the sweep; straddling anywhere (and
  * outside nowhere) cannot decide. The value is the worst excess over the limit (≤ 0 inside).
  */
-function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>): Decided | null {
+function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNullable<MaskLimits['curves']['splDb']>, rule: DecisionRule): Decided | null {
   const values = r.curves[name]
   if (!values) return null
   const unc = name === 'splDb' ? r.parameters.splUncertaintyDb : null
@@ -104,6 +118,7 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
   let outside = false
   let cause: Cause | null = null
   let straddle: { f: number; u: number; excess: number } | null = null
+  let marginal = false
   r.curves.freqHz.forEach((f, i) => {
     const v = values[i]
     if (v == null) return
@@ -117,7 +132,8 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
       worst = excess
       atHz = f
     }
-    const s = stand(v, u, lo, hi)
+    const { standing: s, marginal: m } = standBy(rule, v, u, lo, hi)
+    marginal ||= m
     if (s === 'inside') return
     if (inSpan(f, transients)) cause = 'transient'
     else if (s === 'outside') outside = true
@@ -127,7 +143,7 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
     }
   })
   if (compared === 0) return null
-  const check = { name, value: round(Math.max(worst, 0)), low: null, high: 0, unit: CHECK_LABELS[name]!.unit, ...(atHz ? { atHz: round(atHz) } : {}) }
+  const check = { name, value: round(Math.max(worst, 0)), low: null, high: 0, unit: CHECK_LABELS[name]!.unit, ...(atHz ? { atHz: round(atHz) } : {}), ...(marginal ? { marginal: true } : {}) }
   if (outside) return { check: { ...check, pass: false }, cause: null }
   // Undecided by noise: the point whose uncertainty reaches over the limit, with that uncertainty.
   const near = straddle as { f: number; u: number; excess: number } | null
@@ -142,7 +158,7 @@ function curveCheck(name: 'splDb' | 'impedanceOhm', r: Judgeable, limit: NonNull
  * floor as its bound. Null when the result has no floor curve (made before it existed): the plain
  * figure decides then.
  */
-function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | null }, band: readonly [number, number]): Decided | null {
+function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | null }, band: readonly [number, number], rule: DecisionRule): Decided | null {
   const thd = r.curves.thdPct
   const floor = r.parameters.thdFloorPct
   if (!thd || !floor) return null
@@ -154,6 +170,7 @@ function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | nu
   // A reading that could not decide, and the highest floor over the limit (where "below x" cannot decide).
   let clearUndecided = false
   let floorOver: { v: number; f: number } | null = null
+  let marginal = false
   r.curves.freqHz.forEach((f, i) => {
     if (f < band[0] || f > band[1]) return
     const v = thd[i]
@@ -161,7 +178,8 @@ function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | nu
     if (v != null) {
       const u = fl != null ? (COVERAGE_K * fl) / THD_CLEAR_RATIO : 0
       if (!maxClear || v > maxClear.v) maxClear = { v, u, f }
-      const s = stand(v, u, lim.low, lim.high)
+      const { standing: s, marginal: m } = standBy(rule, v, u, lim.low, lim.high)
+      marginal ||= m
       if (s === 'inside') return
       if (inSpan(f, transients)) [cause, clearUndecided] = ['transient', true]
       else if (s === 'outside') outside = true
@@ -189,6 +207,7 @@ function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | nu
     unit: CHECK_LABELS.thdMaxPct!.unit,
     atHz: round(bound ? bound.f : clear!.f),
     ...(bound ? { below: true } : { uncertainty: round(clear!.u) }),
+    ...(marginal ? { marginal: true } : {}),
   }
   if (outside) return { check: { ...check, pass: false }, cause: null }
   if (cause) return { check: { ...check, pass: false, undecided: true }, cause }
@@ -200,13 +219,13 @@ function thdBandCheck(r: Judgeable, lim: { low: number | null; high: number | nu
  * noise's own peak, so the unit's buzz is at most that (`below`): inside the limit it passes; above
  * it the recording cannot tell buzz from noise.
  */
-function rubBuzzCheck(r: Judgeable, value: number, lim: { low: number | null; high: number | null }): Decided {
+function rubBuzzCheck(r: Judgeable, value: number, lim: { low: number | null; high: number | null }, rule: DecisionRule): Decided {
   const floor = r.parameters.rubBuzzFloorDb
   const base = { name: 'rubBuzzDb', low: lim.low, high: lim.high, unit: CHECK_LABELS.rubBuzzDb!.unit }
   if (floor == null) return decided({ ...base, value: round(value) }, stand(value, 0, lim.low, lim.high))
   if (value <= floor + EVENT_MARGIN_DB) return decided({ ...base, value: round(value), below: true }, lim.high === null || value <= lim.high ? 'inside' : 'straddles')
   const u = levelUncertaintyDb(Math.pow(10, value / 20), Math.pow(10, floor / 20)) ?? 0
-  return decided({ ...base, value: round(value), uncertainty: round(u) }, stand(value, u, lim.low, lim.high))
+  return decided({ ...base, value: round(value), uncertainty: round(u) }, standBy(rule, value, u, lim.low, lim.high))
 }
 
 function round(x: number, digits = 4): number {
@@ -240,6 +259,8 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
   const undecided: string[] = []
   const causes: Cause[] = []
   const { parameters: p, flags } = r
+  // Masks made before decision rules existed decided as guarded_retest does.
+  const rule = limits.decisionRule ?? 'guarded_retest'
   const disturbances = p.disturbances ?? []
   const warnings = [...(p.warnings ?? [])]
   const add = (d: Decided | null) => {
@@ -275,7 +296,7 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
     if (!lim) continue
     // The THD maximum is read from its curve and floor: over the mask's band, or the engine's own search band.
     const thdBand = limits.thdBandHz ?? p.thdMaxBandHz ?? null
-    const band = name === 'thdMaxPct' && thdBand ? thdBandCheck(r, lim, thdBand) : null
+    const band = name === 'thdMaxPct' && thdBand ? thdBandCheck(r, lim, thdBand, rule) : null
     if (band) {
       add(band)
       continue
@@ -286,16 +307,16 @@ export function judge(r: Judgeable, limits: MaskLimits, ratedImpedanceOhm: numbe
       continue
     }
     if (name === 'rubBuzzDb') {
-      add(rubBuzzCheck(r, value, lim))
+      add(rubBuzzCheck(r, value, lim, rule))
       continue
     }
     const u = name === 'sensitivityDb' ? (p.sensitivityUncertaintyDb ?? 0) : 0
-    add(decided({ name, value: round(value), low: lim.low, high: lim.high, unit: CHECK_LABELS[name]!.unit, ...(u > 0 ? { uncertainty: round(u) } : {}) }, stand(value, u, lim.low, lim.high)))
+    add(decided({ name, value: round(value), low: lim.low, high: lim.high, unit: CHECK_LABELS[name]!.unit, ...(u > 0 ? { uncertainty: round(u) } : {}) }, standBy(rule, value, u, lim.low, lim.high)))
   }
   for (const name of ['splDb', 'impedanceOhm'] as const) {
     const lim = limits.curves[name]
     if (!lim) continue
-    const c = curveCheck(name, r, lim)
+    const c = curveCheck(name, r, lim, rule)
     if (c) add(c)
     else missing(name)
   }

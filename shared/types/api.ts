@@ -1,6 +1,7 @@
 import type { Role } from '../utils/roles'
 import type { ErrorCode } from '../utils/error-codes'
 import type { Coil } from '../utils/coil'
+import type { DecisionRule, LimitFloors, ScalarLimitName } from '../utils/mask'
 import type { RecordingStatus } from '../utils/recordings'
 import type { StationProfile } from '../utils/station-profile'
 import type { RetestReason, Verdict } from '../utils/verdict'
@@ -56,6 +57,8 @@ export interface CheckView {
   uncertainty?: number
   /** The figure lies below the noise floor: `value` is the floor, the true figure is lower. */
   below?: boolean
+  /** Decided, but within its uncertainty of a limit (the mask's decision rule says how such a figure decides). */
+  marginal?: boolean
 }
 
 /** POST /api/recordings: 202 for a new upload, 200 for the same file again. */
@@ -182,6 +185,10 @@ export interface ProductView {
   reWarnPct: number
   /** After this many retests in a row a unit needs review (listed on its lot page). */
   retestLimit: number
+  /** The product's own floors of proposed limits (absent names: the defaults, shared/utils/mask.ts). */
+  limitFloors: LimitFloors
+  /** A release whose estimated false-reject share is above this, %, asks for a second confirmation. */
+  falseRejectMaxPct: number
 }
 
 export interface StationView {
@@ -218,17 +225,95 @@ export interface GoldenFigure {
   sd: number
 }
 
+/** How one proposed scalar limit was set. */
+export interface LimitBasis {
+  /** `interval`: the normal tolerance interval; `floor`: the product's floor was wider; `k_sigma`: a fixed k the engineer asked for. */
+  rule: 'interval' | 'floor' | 'k_sigma'
+  /** Golden units that measured the figure. */
+  n: number
+  /** The multiplier of s (the tolerance factor for n, or the fixed k). */
+  k: number
+  mean: number
+  sd: number
+  /** The floor as a half-width in the figure's unit. */
+  floor: number
+  /** The coverage this limit was built for (the mask's, shared among its limits). */
+  coverage: number
+  /** An upper limit only (one-sided factor). */
+  oneSided: boolean
+}
+
+/** How a proposed curve band was set, over its points and sides. */
+export interface CurveBasis {
+  rule: 'interval' | 'floor' | 'mixed' | 'k_sigma'
+  /** The fewest golden curves at any point, and k for that n (the largest k used). */
+  n: number
+  k: number
+  coverage: number
+  /** Point sides (two per point) set, and how many of them by the floor. */
+  sides: number
+  sidesByFloor: number
+}
+
+export interface ProposalWarning {
+  code: 'few_golden_units' | 'golden_more_alike'
+  /** The figure it is about, when one. */
+  figure?: string
+  text: string
+}
+
+/** The golden units' spread against the product's recent production, per figure. */
+export interface SpreadComparison {
+  goldenSd: number
+  goldenN: number
+  /** Robust σ (1.4826 × MAD) of the product's latest production results, golden units left out. */
+  historySd: number
+  historyN: number
+  /** goldenSd / historySd. */
+  ratio: number
+}
+
+/** What a mask's proposal said, stored with the draft (never changed afterwards). */
+export interface MaskProposal {
+  /** Share of good units the whole mask should pass, and the confidence of each interval. */
+  coverage: number
+  confidence: number
+  /** A fixed k the engineer asked for instead of tolerance factors; null: tolerance intervals. */
+  fixedK: number | null
+  /** Limits sharing the coverage, and each one's coverage 1 − (1 − coverage) / limitCount. */
+  limitCount: number
+  coveragePerLimit: number
+  goldenUnits: number
+  scalars: Partial<Record<ScalarLimitName, LimitBasis>>
+  curves: { splDb?: CurveBasis; impedanceOhm?: CurveBasis }
+  warnings: ProposalWarning[]
+  spread: Partial<Record<ScalarLimitName, SpreadComparison>>
+  /** The limits as proposed, to tell which ones the engineer edited. */
+  proposedLimits: unknown
+}
+
+/** Estimated false-reject shares of a mask's limits from its golden units (normal model), 0–1. */
+export interface FalseRejectEstimate {
+  byCheck: Partial<Record<string, number>>
+  overall: number
+}
+
 export interface MaskView extends MaskSummary {
   /** Product code (POST /api/masks answers { id, product, version, status, curve, scalars }). */
   product: string
   productId: number
   limits: {
-    scalars: Partial<Record<'re20Ohm' | 'fsHz' | 'qts' | 'sensitivityDb' | 'thdMaxPct' | 'rubBuzzDb', { low: number | null; high: number | null }>>
+    scalars: Partial<Record<ScalarLimitName, { low: number | null; high: number | null }>>
     polarityNormal: boolean
     ratedImpedanceRule: boolean
     curves: { splDb?: CurveLimit; impedanceOhm?: CurveLimit }
     thdBandHz: [number, number] | null
+    decisionRule: DecisionRule
   }
+  /** How the limits were proposed; null for masks made before proposals were recorded. */
+  proposal: MaskProposal | null
+  /** The estimated false-reject share of the current limits, from the golden units (normal model). */
+  estimate: FalseRejectEstimate
   /** The response limit curve (same as limits.curves.splDb), null when the mask has none. */
   curve: CurveLimit | null
   scalars: MaskView['limits']['scalars']
@@ -264,9 +349,14 @@ export interface MaskPreview {
   /** yieldPct: pass / (pass + fail); a retest decides nothing and is counted apart. */
   draft: { pass: number; fail: number; retest: number; yieldPct: number | null }
   active: { maskId: number; version: number; pass: number; fail: number; retest: number; yieldPct: number | null } | null
-  /** Units whose verdict would change, newest first (at most 500 listed). */
+  /** Units whose verdict would change: newly failing first, then newly passing, then the rest; newest first within each (at most 500 listed). */
   changed: { serial: string; recordingId: number; from: Verdict | null; to: Verdict; checks: string[] }[]
   changedTotal: number
+  /**
+   * Known-good units (latest result passed when judged, or a golden unit of this draft) and how many
+   * the draft would fail: the expected false-reject share on this product's history.
+   */
+  knownGood: { units: number; draftFails: number; falseRejectPct: number | null }
   /** Per check: results it would newly fail and newly pass. */
   byCheck: { check: string; newFails: number; newPasses: number }[]
 }

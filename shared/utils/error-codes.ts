@@ -48,6 +48,7 @@ export const ERROR_CODES = {
   mask_not_draft: { status: 409, message: 'Only a draft mask can change' },
   mask_not_released: { status: 409, message: 'Only a released mask can be retired' },
   mask_older_than_active: { status: 409, message: 'This draft is older than the active mask' },
+  false_reject_unconfirmed: { status: 409, message: 'This mask is expected to reject more good units than the product allows: confirm the release once more' },
   no_production_test: { status: 409, message: 'This unit has no finished production test' },
   return_closed: { status: 409, message: 'This return is closed: it cannot change' },
   already_uploaded: { status: 409, message: 'This exact file was already uploaded' },

@@ -2,8 +2,67 @@ import { z } from 'zod'
 import { decimalNumber, plainText } from './input'
 
 /** Names of the scalar figures a mask can limit (result parameter names). */
-export const SCALAR_LIMIT_NAMES = ['re20Ohm', 'fsHz', 'qts', 'sensitivityDb', 'thdMaxPct', 'rubBuzzDb'] as const
+export const SCALAR_LIMIT_NAMES = ['re20Ohm', 'fsHz', 'qts', 'qms', 'qes', 'leMh', 'sensitivityDb', 'thdMaxPct', 'rubBuzzDb'] as const
 export type ScalarLimitName = (typeof SCALAR_LIMIT_NAMES)[number]
+
+/** Figures judged against an upper limit only: less distortion or less rub and buzz is never a fault. */
+export const UPPER_ONLY: ReadonlySet<ScalarLimitName> = new Set(['thdMaxPct', 'rubBuzzDb'])
+
+/**
+ * How a mask decides near a limit, given the uncertainty the engine reports with a figure (ISO
+ * 14253-1's idea of conformance with uncertainty):
+ * - `simple`: the measured value against the limit; a value within its uncertainty of a limit is
+ *   marked marginal but decides as measured;
+ * - `guarded_fail`: the acceptance zone shrinks by the uncertainty: a value inside the limit but
+ *   within its uncertainty of it fails;
+ * - `guarded_retest`: a value within its uncertainty of a limit, on either side, cannot decide and
+ *   asks to measure again.
+ */
+export const DECISION_RULES = ['simple', 'guarded_fail', 'guarded_retest'] as const
+export type DecisionRule = (typeof DECISION_RULES)[number]
+/** A new mask's rule unless the engineer chooses another: the measured value decides (most lines do this). */
+export const DEFAULT_DECISION_RULE: DecisionRule = 'simple'
+
+/** The figures and curves a floor applies to; each floor is a minimum half-width of its limit. */
+export const FLOOR_NAMES = [...SCALAR_LIMIT_NAMES, 'splDb', 'impedanceOhm'] as const
+export type FloorName = (typeof FLOOR_NAMES)[number]
+
+/**
+ * Default floors, the narrowest a proposed limit may be (half-width), with their unit: '%' of the
+ * golden mean, or the figure's own unit. Common practice: sized on the tolerances drivers' data
+ * sheets usually state (Re ±5 %, Fs ±10–15 %, Q ±10–20 %, sensitivity ±1 dB, response ±1.5–3 dB),
+ * so a mask from golden units that happen to agree closely is never tighter than a data sheet.
+ * THD is in percentage points and rub and buzz in dB (upper limits only); the impedance curve in %
+ * of its mean |Z|.
+ */
+export const DEFAULT_FLOORS: Readonly<Record<FloorName, { value: number; unit: '%' | 'dB' | 'pp' }>> = Object.freeze({
+  re20Ohm: { value: 5, unit: '%' },
+  fsHz: { value: 10, unit: '%' },
+  qts: { value: 10, unit: '%' },
+  qms: { value: 15, unit: '%' },
+  qes: { value: 10, unit: '%' },
+  leMh: { value: 15, unit: '%' },
+  sensitivityDb: { value: 1, unit: 'dB' },
+  thdMaxPct: { value: 1, unit: 'pp' },
+  rubBuzzDb: { value: 3, unit: 'dB' },
+  splDb: { value: 1.5, unit: 'dB' },
+  impedanceOhm: { value: 5, unit: '%' },
+})
+
+/** A product's floors, as stored and edited (absent names use DEFAULT_FLOORS). */
+export const limitFloorsSchema = z.partialRecord(z.enum(FLOOR_NAMES), z.number().finite().min(0).max(100))
+export type LimitFloors = z.infer<typeof limitFloorsSchema>
+
+/** The floor in force for a figure: the product's own, else the default. */
+export function floorOf(floors: LimitFloors | null | undefined, name: FloorName): number {
+  return floors?.[name] ?? DEFAULT_FLOORS[name].value
+}
+
+/** Coverage and confidence of a new mask's tolerance intervals unless the engineer sets others. */
+export const DEFAULT_COVERAGE = 0.99
+export const DEFAULT_CONFIDENCE = 0.95
+/** A product's false-reject share above which a release asks twice, % (default 1 %). */
+export const DEFAULT_FALSE_REJECT_MAX_PCT = 1
 
 const bound = z.number().finite().nullable()
 const thdBandSchema = z
@@ -39,6 +98,11 @@ export const maskLimitsSchema = z.object({
     .default({}),
   /** The band the THD maximum is read in; null: the whole measured band. */
   thdBandHz: thdBandSchema.nullable().default(null),
+  /**
+   * How the mask decides near a limit. Masks made before rules existed decided as `guarded_retest`
+   * does, so that stays their rule (a released mask never changes); new masks state theirs.
+   */
+  decisionRule: z.enum(DECISION_RULES).default('guarded_retest'),
 })
 export type MaskLimits = z.infer<typeof maskLimitsSchema>
 /** Limits as a caller may give them (defaults filled in by the schema). */
@@ -78,6 +142,9 @@ export const CHECK_LABELS: Record<string, { label: string; unit: string; plain: 
   re20Ohm: { label: 'Re (20 °C)', unit: 'Ω', plain: 'DC resistance out of limits' },
   fsHz: { label: 'Fs', unit: 'Hz', plain: 'Resonance frequency out of limits' },
   qts: { label: 'Qts', unit: '', plain: 'Total Q out of limits' },
+  qms: { label: 'Qms', unit: '', plain: 'Mechanical Q out of limits' },
+  qes: { label: 'Qes', unit: '', plain: 'Electrical Q out of limits' },
+  leMh: { label: 'Le', unit: 'mH', plain: 'Voice-coil inductance out of limits' },
   sensitivityDb: { label: 'Sensitivity', unit: 'dB', plain: 'Sensitivity out of limits' },
   thdMaxPct: { label: 'THD (max)', unit: '%', plain: 'Distortion too high' },
   rubBuzzDb: { label: 'Rub and buzz', unit: 'dB', plain: 'Rub and buzz: coil rubbing or loose parts' },
@@ -118,7 +185,13 @@ export const maskCreateSchema = z
   .object({
     product: productCode,
     goldenSerials: z.array(goldenSerial).min(5, 'pick at least 5 golden units').max(500),
+    /** A fixed multiplier of σ instead of the tolerance interval (every limit then says "k·σ"). */
     k: z.number().positive().max(10).optional(),
+    /** Share of good units the whole mask should pass (tolerance-interval coverage), default 0.99. */
+    coverage: z.number().min(0.5).max(0.9999).optional(),
+    /** Confidence of the tolerance intervals, default 0.95. */
+    confidence: z.number().min(0.5).max(0.999).optional(),
+    decisionRule: z.enum(DECISION_RULES).optional(),
     floorDb: z.number().min(0).max(20).optional(),
     fromHz: z.number().positive().optional(),
     toHz: z.number().positive().optional(),
@@ -143,7 +216,11 @@ export const maskPatchSchema = z
   .refine((p) => p.name !== undefined || p.limits !== undefined, { message: 'nothing to change' })
 
 /** POST /api/masks/:id/release and /retire: why (required for release, written to the audit log). */
-export const maskReleaseSchema = z.object({ comment: plainText().trim().min(3, 'say why (at least 3 characters)').max(1000) })
+export const maskReleaseSchema = z.object({
+  comment: plainText().trim().min(3, 'say why (at least 3 characters)').max(1000),
+  /** The engineer saw the expected false-reject share above the product's threshold and releases anyway. */
+  confirmFalseReject: z.boolean().optional(),
+})
 export const maskRetireSchema = z.object({ comment: plainText().trim().max(1000).optional() })
 
 export const maskListQuerySchema = z.object({ product: productCode.optional() })

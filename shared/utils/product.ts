@@ -4,6 +4,13 @@ import { codeSchema } from './ids'
 import { coilSchema, DEFAULT_RE_WARN_PCT } from './coil'
 import type { ProductView } from '../types/api'
 import { DEFAULT_RETEST_LIMIT, RETEST_LIMIT_MAX, RETEST_LIMIT_MIN } from './verdict'
+import { DEFAULT_FALSE_REJECT_MAX_PCT, limitFloorsSchema } from './mask'
+
+/** Above this estimated false-reject share, %, a release asks twice (0.01–50 %). */
+const falseRejectMaxPctSchema = z
+  .number({ error: 'the false-reject threshold is a number (%)' })
+  .min(0.01, 'the false-reject threshold is at least 0.01 %')
+  .max(50, 'the false-reject threshold is at most 50 %')
 
 /** Rated impedance bounds: the column holds 6 digits with 2 decimals; real drivers sit between 1 and 600 Ω. */
 const ratedImpedanceSchema = z
@@ -38,6 +45,8 @@ export const productCreateSchema = z.object({
   coil: coilSchema.nullable().optional(),
   reWarnPct: reWarnPctSchema.default(DEFAULT_RE_WARN_PCT),
   retestLimit: retestLimitSchema.default(DEFAULT_RETEST_LIMIT),
+  limitFloors: limitFloorsSchema.optional(),
+  falseRejectMaxPct: falseRejectMaxPctSchema.default(DEFAULT_FALSE_REJECT_MAX_PCT),
 })
 export type ProductCreateInput = z.input<typeof productCreateSchema>
 export type ProductCreate = z.output<typeof productCreateSchema>
@@ -56,6 +65,8 @@ export const productPatchSchema = z
     coil: coilSchema.nullable().optional(),
     reWarnPct: reWarnPctSchema.optional(),
     retestLimit: retestLimitSchema.optional(),
+    limitFloors: limitFloorsSchema.optional(),
+    falseRejectMaxPct: falseRejectMaxPctSchema.optional(),
   })
   .refine((p) => Object.values(p).some((v) => v !== undefined), { message: 'nothing to change' })
 export type ProductPatchInput = z.input<typeof productPatchSchema>

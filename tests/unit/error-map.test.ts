@@ -14,7 +14,7 @@ import { PROPOSE_ERROR_CODES } from '../../server/limits/propose'
 import { PEOPLE_ERROR_CODES } from '../../server/services/people'
 import { CERTIFICATE_ERROR_CODES } from '../../server/services/units'
 import { UPLOAD_REFUSAL_CODES } from '../../server/services/ingest'
-import { GOLDEN_ERROR_CODES } from '../../server/services/masks'
+import { GOLDEN_ERROR_CODES, RELEASE_ERROR_CODES } from '../../server/services/masks'
 import { RETURN_ERROR_CODES } from '../../server/services/returns'
 import { UNIT_INPUT_ERROR_CODES } from '../../server/repos/units'
 import { MASK_STATE_ERROR_CODES } from '../../server/repos/masks'
@@ -35,6 +35,7 @@ const CODE_LISTS: Record<string, readonly string[]> = {
   'certificates (units service)': CERTIFICATE_ERROR_CODES,
   'uploads (ingest service)': UPLOAD_REFUSAL_CODES,
   'golden units (masks service)': GOLDEN_ERROR_CODES,
+  'mask release (masks service)': RELEASE_ERROR_CODES,
   'returns service': RETURN_ERROR_CODES,
   'units repo': UNIT_INPUT_ERROR_CODES,
   'masks repo': MASK_STATE_ERROR_CODES,
@@ -46,7 +47,7 @@ const CODE_LISTS: Record<string, readonly string[]> = {
 }
 
 /** `new <a domain error class>('code'`: the classes that extend DomainError. */
-const DOMAIN_THROW = /new (?:DomainError|AnalysisInputError|StatsError|ProposeError|PeopleError|CertificateError|UploadRefused|GoldenError|ReturnError|UnitInputError|MaskStateError|InvitationError|ProductConflict|MailError)\(\s*'([a-z_]+)'/g
+const DOMAIN_THROW = /new (?:DomainError|AnalysisInputError|StatsError|ProposeError|PeopleError|CertificateError|UploadRefused|GoldenError|ReleaseRiskError|ReturnError|UnitInputError|MaskStateError|InvitationError|ProductConflict|MailError)\(\s*'([a-z_]+)'/g
 
 const SERVER_FILES = sourceFiles(['server', 'workers'])
 

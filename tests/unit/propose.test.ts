@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { standardGrid } from '../../server/analysis/index.ts'
+import { DEFAULT_FLOORS } from '../../shared/utils/mask.ts'
 import {
-  DEFAULT_CURVE_FLOOR_DB,
   MIN_GOLDEN_UNITS,
   ProposeError,
   defaultCurveRange,
@@ -73,25 +73,29 @@ const golden: GoldenResult[] = FS.map((fs, i) =>
   unit({ re20Ohm: 5.9, fsHz: fs, qts: null, sensitivityDb: 88 + SPL_OFFSET[i]!, thdMaxPct: THD[i]!, rubBuzzDb: RB[i]! }, 90 + SPL_OFFSET[i]!, 8 + SPL_OFFSET[i]! / 10),
 )
 
-describe('proposeLimits: scalars', () => {
-  const limits = proposeLimits(golden)
+// A fixed k = 3 keeps the hand-worked figures simple; the tolerance factors have their own tests (tolerance.test.ts).
+const K3 = { k: 3 }
+
+describe('proposeLimits with a fixed k: scalars', () => {
+  const limits = proposeLimits(golden, K3)
 
   it('Fs: mean ± 3σ when 3σ exceeds the floor', () => {
     // Mean 44; deviations −4, −2, 0, 2, 4; Σd² = 40; s² = 40 / 4 = 10; s = 3.162278;
-    // 3s = 9.486833 > 2 Hz floor → [34.513167, 53.486833].
+    // 3s = 9.486833 > the 10 % floor (4.4 Hz) → [34.513167, 53.486833].
     expect(limits.scalars.fsHz!.low).toBeCloseTo(34.5132, 3)
     expect(limits.scalars.fsHz!.high).toBeCloseTo(53.4868, 3)
   })
 
   it('Re: the floor when the golden units agree exactly', () => {
-    // All 5.9 Ω: s = 0, so the 0.1 Ω floor sets the band → [5.8, 6.0].
-    expect(limits.scalars.re20Ohm).toEqual({ low: 5.8, high: 6 })
+    // All 5.9 Ω: s = 0, so the 5 % floor (0.295 Ω) sets the band → [5.605, 6.195].
+    expect(limits.scalars.re20Ohm!.low).toBeCloseTo(5.605, 9)
+    expect(limits.scalars.re20Ohm!.high).toBeCloseTo(6.195, 9)
   })
 
   it('THD max and rub and buzz: upper limits only', () => {
-    // THD: mean 0.4; Σd² = 0.01 + 0 + 0.01 + 0 + 0 = 0.02; s = √0.005 = 0.070711; 3s = 0.2121 < 0.5 floor → high 0.9.
+    // THD: mean 0.4; Σd² = 0.01 + 0 + 0.01 + 0 + 0 = 0.02; s = √0.005 = 0.070711; 3s = 0.2121 < 1 point floor → high 1.4.
     expect(limits.scalars.thdMaxPct!.low).toBeNull()
-    expect(limits.scalars.thdMaxPct!.high).toBeCloseTo(0.9, 9)
+    expect(limits.scalars.thdMaxPct!.high).toBeCloseTo(1.4, 9)
     // Rub and buzz: mean −61; Σd² = 1 + 1 + 0 + 4 + 4 = 10; s = √2.5 = 1.581139; 3s = 4.743416 > 3 → high −56.256584.
     expect(limits.scalars.rubBuzzDb!.low).toBeNull()
     expect(limits.scalars.rubBuzzDb!.high).toBeCloseTo(-56.2566, 3)
@@ -103,10 +107,11 @@ describe('proposeLimits: scalars', () => {
     expect(limits.ratedImpedanceRule).toBe(true)
   })
 
-  it('applies k and floor overrides, and a null floor drops the figure', () => {
-    const l = proposeLimits(golden, { k: 1, scalarFloors: { fsHz: 5, sensitivityDb: null } })
-    // k = 1: s = 3.162 < 5 Hz floor → [39, 49].
-    expect(l.scalars.fsHz).toEqual({ low: 39, high: 49 })
+  it('applies k and floor overrides, and leaves out a figure asked to', () => {
+    const l = proposeLimits(golden, { k: 1, floors: { fsHz: 12 }, omit: ['sensitivityDb'] })
+    // k = 1: s = 3.162 < 12 % of 44 = 5.28 Hz → [38.72, 49.28].
+    expect(l.scalars.fsHz!.low).toBeCloseTo(38.72, 9)
+    expect(l.scalars.fsHz!.high).toBeCloseTo(49.28, 9)
     expect(l.scalars.sensitivityDb).toBeUndefined()
   })
 
@@ -125,13 +130,13 @@ describe('proposeLimits: scalars', () => {
   })
 })
 
-describe('proposeLimits: response band', () => {
+describe('proposeLimits with a fixed k: response band', () => {
   it('defaults to the sweep band less its last one-third octave', () => {
     // 20 kHz / 10^(1/10) = 15 886.6 Hz (base-10 one-third-octave ratio, IEC 61260-1).
     const [from, to] = defaultCurveRange([20, 20_000])
     expect(from).toBe(20)
     expect(to).toBeCloseTo(15886.6, 1)
-    const band = proposeLimits(golden).curves.splDb!
+    const band = proposeLimits(golden, K3).curves.splDb!
     expect(band.freqHz[0]).toBeGreaterThanOrEqual(20)
     expect(band.freqHz.at(-1)).toBeLessThanOrEqual(to)
     // Nothing of the grid inside the range is missing at either end.
@@ -141,18 +146,19 @@ describe('proposeLimits: response band', () => {
 
   it('is mean ± 3σ where the spread is wide, and the floor where it is narrow', () => {
     // Offsets −1, −0.5, 0, 0.5, 1 dB around 90: Σd² = 2.5; s = √0.625 = 0.790569; 3s = 2.371708 > 1.5.
-    const wide = proposeLimits(golden).curves.splDb!
+    const wide = proposeLimits(golden, K3).curves.splDb!
     expect(wide.high.every((v) => v !== null && Math.abs(v - 92.3717) < 1e-3)).toBe(true)
     expect(wide.low.every((v) => v !== null && Math.abs(v - 87.6283) < 1e-3)).toBe(true)
     // Offsets a tenth as large: 3s = 0.237 < the 1.5 dB floor → 88.5 … 91.5.
     const tight = golden.map((g, i) => unit(g.parameters, 90 + SPL_OFFSET[i]! / 10))
-    const narrow = proposeLimits(tight).curves.splDb!
-    expect(narrow.high.every((v) => v === 90 + DEFAULT_CURVE_FLOOR_DB)).toBe(true)
-    expect(narrow.low.every((v) => v === 90 - DEFAULT_CURVE_FLOOR_DB)).toBe(true)
+    const narrow = proposeLimits(tight, K3).curves.splDb!
+    expect(narrow.high.every((v) => v === 90 + DEFAULT_FLOORS.splDb.value)).toBe(true)
+    expect(narrow.low.every((v) => v === 90 - DEFAULT_FLOORS.splDb.value)).toBe(true)
   })
 
   it('builds the upper and lower sides separately, with extra margin in a marked region', () => {
     const band = proposeLimits(golden, {
+      ...K3,
       fromHz: 100,
       toHz: 10_000,
       response: { upper: { k: 2, floor: 1 }, lower: { floor: 3 }, regions: [{ fromHz: 3000, toHz: 6000, upper: 2 }] },
@@ -170,7 +176,7 @@ describe('proposeLimits: response band', () => {
   it('leaves a point open where fewer than five golden curves have a value', () => {
     // One golden curve missing below 50 Hz: 4 values there, so those points carry no limit.
     const holes = golden.map((g, i) => (i === 0 ? unit(g.parameters, (f) => (f < 50 ? null : 89)) : g))
-    const band = proposeLimits(holes).curves.splDb!
+    const band = proposeLimits(holes, K3).curves.splDb!
     band.freqHz.forEach((f, i) => {
       if (f < 50) expect([band.low[i], band.high[i]]).toEqual([null, null])
       else expect(band.low[i]).not.toBeNull()
@@ -179,7 +185,7 @@ describe('proposeLimits: response band', () => {
 
   it('proposes an impedance band only when asked, with a floor relative to the mean', () => {
     expect(proposeLimits(golden).curves.impedanceOhm).toBeUndefined()
-    const z = proposeLimits(golden, { impedance: true }).curves.impedanceOhm!
+    const z = proposeLimits(golden, { ...K3, impedance: true }).curves.impedanceOhm!
     // |Z| 7.9 … 8.1 Ω: mean 8; s = 0.0790569; 3s = 0.237 < 5 % of 8 = 0.4 → 7.6 … 8.4 Ω.
     expect(z.low.every((v) => v !== null && Math.abs(v - 7.6) < 1e-9)).toBe(true)
     expect(z.high.every((v) => v !== null && Math.abs(v - 8.4) < 1e-9)).toBe(true)
@@ -187,7 +193,7 @@ describe('proposeLimits: response band', () => {
 })
 
 describe('proposed limits judged by judge()', () => {
-  const limits = proposeLimits(golden)
+  const limits = proposeLimits(golden, K3)
   const asJudgeable = (g: GoldenResult, splShift = 0, fsHz = 44): Judgeable => ({
     kind: 'sweep',
     parameters: {

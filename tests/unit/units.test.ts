@@ -161,7 +161,7 @@ describe('parameter rows (unit page and certificate)', () => {
 describe('certificate PDF', () => {
   const unit = {
     serial: TEST.serial,
-    product: { id: 1, code: 'W165-4', name: 'Invented 6.5 in woofer', ratedImpedanceOhm: 4, nominalSize: '6.5 in', sensitivityBandHz: [300, 3000], activeMaskId: 3, coil: null, expectedRe20Ohm: null, reWarnPct: 5, retestLimit: 2 },
+    product: { id: 1, code: 'W165-4', name: 'Invented 6.5 in woofer', ratedImpedanceOhm: 4, nominalSize: '6.5 in', sensitivityBandHz: [300, 3000], activeMaskId: 3, coil: null, expectedRe20Ohm: null, reWarnPct: 5, retestLimit: 2, limitFloors: {}, falseRejectMaxPct: 1 },
     lot: { code: 'L-2611-03' },
     verdict: 'fail',
     retests: { inARow: 0, limit: 2, needsReview: false },
