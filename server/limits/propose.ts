@@ -190,8 +190,27 @@ interface CurveBandSpec {
 type CurveLimit = NonNullable<MaskLimits['curves']['splDb']>
 
 /**
+ * Half-width, in octaves, of the window a curve point's standard deviation is pooled over. A
+ * response is smooth on this scale, and a standard deviation from a dozen curves at one point is
+ * rough (11 degrees of freedom): pooling the variances of the neighbouring points steadies it, so
+ * few points get a band narrower than their true spread calls for. The mean stays per point.
+ */
+export const CURVE_SD_POOL_OCTAVES = 1 / 6
+
+/** √(mean variance) of the points within ±CURVE_SD_POOL_OCTAVES of point j. */
+function pooledSd(points: readonly { f: number; s: Summary | null }[], j: number, f: number): number {
+  const ratio = Math.pow(2, CURVE_SD_POOL_OCTAVES)
+  let sum = 0
+  let count = 0
+  for (let i = j; i >= 0 && points[i]!.f >= f / ratio; i--) if (points[i]!.s) [sum, count] = [sum + points[i]!.s!.sd ** 2, count + 1]
+  for (let i = j + 1; i < points.length && points[i]!.f <= f * ratio; i++) if (points[i]!.s) [sum, count] = [sum + points[i]!.s!.sd ** 2, count + 1]
+  return Math.sqrt(sum / count)
+}
+
+/**
  * The band mean ± max(k·s, floor) at each point of the golden units' standard grid within
- * [fromHz, toHz], k for the number of curves with a value there. A point where fewer than
+ * [fromHz, toHz], k for the number of curves with a value there and s pooled over the neighbouring
+ * points (CURVE_SD_POOL_OCTAVES). A point where fewer than
  * MIN_GOLDEN_UNITS curves have a value stays open (null), which judge() skips. Returns undefined
  * when no golden unit has this curve.
  */
@@ -212,23 +231,28 @@ export function proposeCurveBand(
   let minN = Number.POSITIVE_INFINITY
   let byFloor = 0
   let byInterval = 0
+  const points: { f: number; s: Summary | null }[] = []
   grid.forEach((f, i) => {
     if (f < spec.fromHz * (1 - tol) || f > spec.toHz * (1 + tol)) return
     const s = summarize(withCurve.map((g) => pointValue(g.curves.freqHz, g.curves[curve]!, i, f)))
+    points.push({ f, s: s && s.n >= MIN_GOLDEN_UNITS ? s : null })
+  })
+  points.forEach(({ f, s }, j) => {
     freqHz.push(round(f, 6))
-    if (!s || s.n < MIN_GOLDEN_UNITS) {
+    if (!s) {
       low.push(null)
       high.push(null)
       return
     }
     minN = Math.min(minN, s.n)
+    const sd = pooledSd(points, j, f)
     const kAll = factors.k(s.n)
     const side = (sp: SideSpec) => {
       const k = sp.k ?? kAll
       const floor = sp.floor(s.mean)
-      if (k * s.sd >= floor) byInterval++
+      if (k * sd >= floor) byInterval++
       else byFloor++
-      return halfWidth(s.sd, k, floor)
+      return halfWidth(sd, k, floor)
     }
     let up = side(spec.upper)
     let down = side(spec.lower)
