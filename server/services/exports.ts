@@ -8,12 +8,13 @@ import type { CertificateSent } from '../../shared/types/units'
 import type { SendCertificateInput } from '../../shared/utils/units'
 import { mailCertificate } from '../mail/certificate'
 import { sendLotReport } from '../mail/lot-report'
-import { lotUnitsCsv } from '../reports/csv'
+import { lotUnitsCsv, maskLimitsCsv } from '../reports/csv'
 import { renderLotReportPdf } from '../reports/lot-report-pdf'
 import { DomainError } from '../../shared/utils/domain-error'
 import { recordAudit } from './audit'
 import { getLotReport, getLotUnitRows } from './lot-report'
 import { getCertificateData } from './units'
+import { getMaskView } from './masks'
 
 /** Who asks for an export: the signed-in person and the address of the request. */
 export interface Exporter {
@@ -32,6 +33,16 @@ export async function exportLotCsv(db: Knex, lotCode: string, by: Pick<Exporter,
   if (!lot) throw new DomainError('unknown_lot', `No lot ${lotCode}`)
   await recordAudit(db, { userId: by.id, action: 'lot.export_csv', entity: 'lot', entityId: lotCode, subject: lotCode, ip: by.ip, detail: { units: lot.rows.length } })
   return lotUnitsCsv(lot.rows)
+}
+
+/**
+ * A mask's limits as CSV (server/reports/csv.ts maskLimitsCsv), audited.
+ * @throws MaskStateError `unknown_mask` (nothing audited).
+ */
+export async function exportMaskCsv(db: Knex, maskId: number, by: Pick<Exporter, 'id' | 'ip'>): Promise<{ csv: string; name: string }> {
+  const view = await getMaskView(db, maskId)
+  await recordAudit(db, { userId: by.id, action: 'mask.export_csv', entity: 'mask', entityId: maskId, subject: `${view.product} v${view.version}`, ip: by.ip })
+  return { csv: maskLimitsCsv(view), name: `mask-${view.product}-v${view.version}` }
 }
 
 /**

@@ -29,6 +29,7 @@ export const AUDIT_ACTION_LABELS: Record<string, string> = {
   'station.token_rotate': 'Station token replaced',
   'mask.release': 'Mask released',
   'mask.retire': 'Mask retired',
+  'mask.export_csv': 'Mask limits CSV exported',
   'lot.export_csv': 'Lot CSV exported',
   'lot.export_pdf': 'Lot report PDF exported',
   'lot.report_sent': 'Lot report e-mailed',

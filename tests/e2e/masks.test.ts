@@ -1,5 +1,7 @@
 import { mean, sampleStandardDeviation } from 'simple-statistics'
+import Papa from 'papaparse'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { twoSidedToleranceFactor } from '../../server/stats/tolerance'
 import { generateRecording } from '../../fixtures/generator'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import type { MaskPreview, MaskView, RecordingView } from '../../shared/types/api'
@@ -117,8 +119,8 @@ describe('a mask from golden units through its life', () => {
     const fs = golden.map((g) => g.parameters!.fsHz!)
     expect(v1.golden.figures.fsHz!.mean).toBeCloseTo(mean(fs), 9)
     expect(v1.golden.figures.fsHz!.sd).toBeCloseTo(sampleStandardDeviation(fs), 9)
-    // mean ± max(k·σ, floor) with the default Fs floor of 2 Hz (server/limits/propose.ts), stored to 5 significant digits.
-    const half = Math.max(3 * sampleStandardDeviation(fs), 2)
+    // mean ± max(k·σ, floor) with the default Fs floor of 10 % of the mean (shared/utils/mask.ts), stored to 5 significant digits.
+    const half = Math.max(3 * sampleStandardDeviation(fs), 0.1 * mean(fs))
     expect(v1.scalars.fsHz!.low).toBeCloseTo(mean(fs) - half, 2)
     expect(v1.scalars.fsHz!.high).toBeCloseTo(mean(fs) + half, 2)
   })
@@ -198,7 +200,10 @@ describe('a mask from golden units through its life', () => {
     expect(preview.byCheck.find((c) => c.check === 'fsHz')?.newFails).toBe(preview.changedTotal)
     expect(preview.draft.fail).toBe(preview.changedTotal)
 
-    const released = await api('POST', `/api/masks/${res.body.id}/release`, { comment: 'tighter Fs after spider change' })
+    // The Fs cut rejects a golden unit: the release asks twice, with the expected false-reject share.
+    const asked = await api('POST', `/api/masks/${res.body.id}/release`, { comment: 'tighter Fs after spider change' })
+    expect([asked.status, asked.body.data?.code]).toEqual([409, 'false_reject_unconfirmed'])
+    const released = await api('POST', `/api/masks/${res.body.id}/release`, { comment: 'tighter Fs after spider change', confirmFalseReject: true })
     expect(released.status).toBe(200)
     const list = (await api<{ version: number; status: string }[]>('GET', `/api/masks?product=${product.code}`)).body
     expect(list.filter((m) => m.status !== 'draft').map((m) => [m.version, m.status])).toEqual([[v2, 'released'], [1, 'retired']])
@@ -229,5 +234,107 @@ describe('a mask from golden units through its life', () => {
     const patchRetired = await api('PATCH', `/api/masks/${res.body.id}`, { name: 'x' })
     expect(patchRetired.status).toBe(409)
     expect(patchRetired.body.data?.code).toBe('mask_not_draft')
+  })
+})
+
+describe('statistical proposals, their estimate and the release gate', () => {
+  const serials = () => golden.map((g) => g.serial)
+
+  it('proposes tolerance intervals by default and says for each limit which rule set it, with n and k', async () => {
+    const res = await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: serials() })
+    expect(res.status).toBe(201)
+    const p = res.body.proposal!
+    expect(p).toMatchObject({ coverage: 0.99, confidence: 0.95, fixedK: null, goldenUnits: 8 })
+    expect(p.coveragePerLimit).toBeCloseTo(1 - 0.01 / p.limitCount, 12)
+    // Two-sided k for n = 8 at the per-limit coverage (Howe, e-Handbook 7.2.6.3; checked against the
+    // handbook and jStat in tests/unit/limits/tolerance.test.ts).
+    const fs = p.scalars.fsHz!
+    expect(fs.n).toBe(8)
+    expect(fs.k).toBeCloseTo(twoSidedToleranceFactor(8, p.coveragePerLimit, 0.95), 3)
+    const values = golden.map((g) => g.parameters!.fsHz!)
+    const half = Math.max(fs.k * sampleStandardDeviation(values), 0.1 * mean(values))
+    expect(fs.rule).toBe(fs.k * sampleStandardDeviation(values) >= 0.1 * mean(values) ? 'interval' : 'floor')
+    expect(res.body.scalars.fsHz!.high).toBeCloseTo(mean(values) + half, 2)
+    // New masks decide by the measured value; the estimate covers every limit.
+    expect(res.body.limits.decisionRule).toBe('simple')
+    expect(res.body.estimate.overall).toBeGreaterThanOrEqual(0)
+    expect(res.body.estimate.overall).toBeLessThan(1)
+    expect(Object.keys(res.body.estimate.byCheck)).toEqual(expect.arrayContaining(['fsHz', 're20Ohm', 'splDb']))
+    expect(p.warnings.map((w) => w.code)).not.toContain('few_golden_units')
+  })
+
+  it('warns with fewer than 8 golden units, and uses the product\'s own floors', async () => {
+    const floors = await api('PATCH', `/api/products/${product.code}`, { limitFloors: { fsHz: 40 } })
+    expect(floors.status).toBe(200)
+    const res = await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: serials().slice(0, 6), decisionRule: 'guarded_retest' })
+    expect(res.status).toBe(201)
+    expect(res.body.proposal!.warnings.map((w) => w.code)).toContain('few_golden_units')
+    // A 40 % floor is wider than any interval from these units: the floor sets Fs.
+    const fsMean = mean(golden.slice(0, 6).map((g) => g.parameters!.fsHz!))
+    expect(res.body.proposal!.scalars.fsHz).toMatchObject({ rule: 'floor', n: 6 })
+    expect(res.body.scalars.fsHz!.low).toBeCloseTo(0.6 * fsMean, 2)
+    expect(res.body.limits.decisionRule).toBe('guarded_retest')
+    expect((await api('PATCH', `/api/products/${product.code}`, { limitFloors: {} })).status).toBe(200)
+    // Floors are validated like every input.
+    const bad = await api('PATCH', `/api/products/${product.code}`, { limitFloors: { fsHz: -1 } })
+    expect([bad.status, bad.body.data?.code]).toEqual([400, 'invalid_input'])
+  })
+
+  it('exports the limits as CSV with the rule, n, k and estimate of each, audited', async () => {
+    const m = (await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: serials() })).body
+    const res = await fetch(new URL(`/api/masks/${m.id}/limits.csv`, host), { headers: eng })
+    expect(res.status).toBe(200)
+    expect(res.headers.get('content-type')).toMatch(/text\/csv/)
+    const rows = Papa.parse<Record<string, string>>(await res.text(), { header: true, skipEmptyLines: true }).data
+    const fs = rows.find((r) => r.check === 'fsHz')!
+    expect(fs).toMatchObject({ product: product.code, decision_rule: 'simple', rule: m.proposal!.scalars.fsHz!.rule, golden_n: '8' })
+    expect(Number(fs.low)).toBeCloseTo(m.scalars.fsHz!.low!, 6)
+    expect(Number(fs.k)).toBeCloseTo(m.proposal!.scalars.fsHz!.k, 6)
+    expect(rows.filter((r) => r.check === 'splDb').length).toBe(m.curve!.freqHz.length)
+    const audit = await testDb()('audit_log').where({ action: 'mask.export_csv', entity_id: String(m.id) }).first()
+    expect(audit).toBeTruthy()
+    const tech403 = await fetch(new URL(`/api/masks/${m.id}/limits.csv`, host), { headers: tech })
+    expect(tech403.status).toBe(403)
+  })
+
+  it('asks twice before releasing a mask expected to reject more good units than the product allows', async () => {
+    const code = unique('GATE')
+    expect((await api('POST', '/api/products', { code, name: 'Gate check', ratedImpedanceOhm: 6, falseRejectMaxPct: 0.01 })).status).toBe(201)
+    const gateSerials: string[] = []
+    for (let i = 0; i < 5; i++) {
+      const serial = unique('GU')
+      const up = await postRecording(host, tech, { serial, product: code, station: station.id }, { bytes: generateRecording({ seed: 470 + i }), name: 'g.wav' })
+      await waitFinished(host, tech, up.body.id)
+      gateSerials.push(serial)
+    }
+    // A fixed k = 2 on five units: the golden model expects several per cent of good units to fail.
+    const m = (await api<MaskView>('POST', '/api/masks', { product: code, goldenSerials: gateSerials, k: 2 })).body
+    expect(m.estimate.overall).toBeGreaterThan(0.0001)
+    const first = await api<{ data: { code: string; falseRejectPct: number; thresholdPct: number; basis: string } }>('POST', `/api/masks/${m.id}/release`, { comment: 'first try' })
+    expect(first.status).toBe(409)
+    expect(first.body.data).toMatchObject({ code: 'false_reject_unconfirmed', thresholdPct: 0.01, basis: 'golden_model' })
+    expect(first.body.data.falseRejectPct).toBeCloseTo(100 * m.estimate.overall, 1)
+    expect(first.body.message).toMatch(/about 1 good unit in \d+/)
+    // Nothing happened: still a draft, nothing audited.
+    expect((await api<MaskView>('GET', `/api/masks/${m.id}`)).body.status).toBe('draft')
+    expect(await testDb()('audit_log').where({ action: 'mask.release', entity_id: String(m.id) }).first()).toBeUndefined()
+    const confirmed = await api('POST', `/api/masks/${m.id}/release`, { comment: 'accepted: first lot, limits reviewed', confirmFalseReject: true })
+    expect(confirmed.status).toBe(200)
+    const audit = await testDb()('audit_log').where({ action: 'mask.release', entity_id: String(m.id) }).first()
+    expect(audit.detail).toMatchObject({ confirmedOverThreshold: true, falseRejectBasis: 'golden_model' })
+  })
+
+  it('previews the false-reject share on known-good units and lists newly failing units first', async () => {
+    const m = (await api<MaskView>('POST', '/api/masks', { product: product.code, goldenSerials: serials() })).body
+    // Re tighter than the golden spread: some known-good units would now fail.
+    const re = golden.map((g) => g.parameters!.re20Ohm ?? g.parameters!.reOhm!).sort((a, b) => a - b)
+    const limits = { ...m.limits, scalars: { ...m.limits.scalars, re20Ohm: { low: re[2]!, high: 100 } } }
+    expect((await api('PATCH', `/api/masks/${m.id}`, { limits })).status).toBe(200)
+    const preview = (await api<MaskPreview>('GET', `/api/masks/${m.id}/preview`)).body
+    expect(preview.knownGood.units).toBeGreaterThanOrEqual(8)
+    expect(preview.knownGood.draftFails).toBeGreaterThanOrEqual(2)
+    expect(preview.knownGood.falseRejectPct).toBeCloseTo((100 * preview.knownGood.draftFails) / preview.knownGood.units, 1)
+    const ranks = preview.changed.map((c) => (c.to === 'fail' ? 0 : c.from === 'fail' && c.to === 'pass' ? 1 : 2))
+    expect(ranks).toEqual([...ranks].sort((a, b) => a - b))
   })
 })
