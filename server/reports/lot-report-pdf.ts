@@ -65,6 +65,7 @@ function summaryPage(doc: Doc, r: LotReport) {
     ['First-pass yield', `${pct(s.firstPassYield)} (${s.firstPassUnits} units)`],
     ['Final yield', `${pct(s.finalYield)} (${s.finalPassUnits} units)`],
     ['Tested more than once', `${pct(s.retestRate)} (${s.retestedUnits} ${s.retestedUnits === 1 ? 'unit' : 'units'})`],
+    ['Marginal (within uncertainty of a limit)', `${s.marginalUnits} ${s.marginalUnits === 1 ? 'unit' : 'units'}`],
     ['Return rate', `${pct(s.returnRate)} (${s.returnedUnits} units returned, ${s.returns} returns)`],
     // Retests are not failures: counted apart from the Pareto of failing checks below.
     ['First result: retest', retestLine(r)],

@@ -42,6 +42,8 @@ export interface LotResultRow {
   retestReason: RetestReason | null
   /** The checks this result failed (value and bounds as judged; a check that could not decide is no failure). */
   failedChecks: { name: string; value: number | null; low: number | null; high: number | null }[]
+  /** A check of this result decided within its uncertainty of a limit. */
+  marginal: boolean
   fsHz: number | null
   re20Ohm: number | null
   reOhm: number | null
@@ -65,6 +67,7 @@ export async function listLotResults(db: Knex, lotId: number): Promise<LotResult
       'u.id as unit_id', 'u.serial', 'res.id as result_id', 'r.uploaded_at', 'res.verdict', 'res.retest_reason',
       // Only the failed checks travel: most results pass, and parsing every check of a lot's results dominated the report's time.
       db.raw(`jsonb_path_query_array(res.checks, '$.checks[*] \\? (@.pass == false && !(@.undecided == true))') as failed_checks`),
+      db.raw(`coalesce(jsonb_path_exists(res.checks, '$.checks[*] \\? (@.marginal == true)'), false) as marginal`),
       'res.fs_hz', 'res.re20_ohm', 'res.re_ohm', 'res.qts', 'res.sensitivity_db', 'res.rub_buzz_db',
       // THD max as judged: a mask with a THD band reads it inside the band (the check's value), not over the whole sweep.
       db.raw(`coalesce((jsonb_path_query_first(res.checks, '$.checks[*] \\? (@.name == "thdMaxPct").value'))::float8, res.thd_max_pct) as thd_max_pct`),
@@ -77,6 +80,7 @@ export async function listLotResults(db: Knex, lotId: number): Promise<LotResult
     verdict: r.verdict,
     retestReason: r.retest_reason ?? null,
     failedChecks: (r.failed_checks ?? []) as LotResultRow['failedChecks'],
+    marginal: r.marginal === true,
     fsHz: r.fs_hz,
     re20Ohm: r.re20_ohm,
     reOhm: r.re_ohm,

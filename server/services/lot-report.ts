@@ -245,6 +245,7 @@ export async function getLotReport(db: Knex, lotCode: string): Promise<LotReport
       finalPassUnits: y.finalPassUnits,
       retestedUnits: y.retestedUnits,
       firstRetestUnits: y.firstRetestUnits,
+      marginalUnits: units.filter((u) => u.results.some((r) => r.marginal)).length,
       returns: returns.returns,
       returnedUnits: returns.returnedUnits,
       returnRate: y.unitsTested === 0 ? null : returns.returnedUnits / y.unitsTested,

@@ -101,6 +101,8 @@ export interface LotReport {
     retestedUnits: number
     /** Units whose first result ended `retest`: not a first pass, not a fail (see pareto.retests for the reasons). */
     firstRetestUnits: number
+    /** Units with a result decided within its uncertainty of a limit (a check marked marginal). */
+    marginalUnits: number
     /** Returns from the field of the lot's units; returnRate = returnedUnits / unitsTested (return tests never count in the yields above). */
     returns: number
     returnedUnits: number
