@@ -1,6 +1,7 @@
 import type { CoilInput } from '#shared/utils/coil'
 import type { ProductListItem, ProductCreateInput } from '#shared/utils/product'
 import { DEFAULT_RETEST_LIMIT } from '#shared/utils/verdict'
+import { DEFAULT_FALSE_REJECT_MAX_PCT, FLOOR_NAMES, type FloorName, type LimitFloors } from '#shared/utils/mask'
 
 /** What the coil fields hold while the engineer types (number inputs give '' when empty). */
 export interface CoilDraft {
@@ -24,9 +25,23 @@ export interface ProductDraft {
   retestLimit: number | ''
   hasCoil: boolean
   coil: CoilDraft
+  /** One entry per floor; '' (an empty input): the default floor. */
+  floors: Record<FloorName, number | ''>
+  /** '' (an empty input): the default threshold. */
+  falseRejectMaxPct: number | ''
 }
 
 const num = (v: number | '' | null | undefined) => (v === '' || v === null || v === undefined ? undefined : Number(v))
+
+/** The floor fields of a draft: the product's own floors, empty where it uses the default. */
+function floorsDraft(floors: LimitFloors = {}): Record<FloorName, number | ''> {
+  return Object.fromEntries(FLOOR_NAMES.map((n) => [n, floors[n] ?? ''])) as Record<FloorName, number | ''>
+}
+
+/** Only the floors the engineer filled in: an empty field goes back to its default. */
+export function floorsOfDraft(floors: Record<FloorName, number | ''>): LimitFloors {
+  return Object.fromEntries(FLOOR_NAMES.flatMap((n) => (num(floors[n]) === undefined ? [] : [[n, num(floors[n])]]))) as LimitFloors
+}
 
 /** A new product's starting values: a four-layer 31 AWG coil, the band the engine averages over by default (300–3000 Hz). */
 export function newProductDraft(): ProductDraft {
@@ -41,6 +56,8 @@ export function newProductDraft(): ProductDraft {
     retestLimit: DEFAULT_RETEST_LIMIT,
     hasCoil: false,
     coil: { awg: 31, by: 'turns', turns: '', meanDiameterMm: '', lengthM: '', layers: 4, strands: 1 },
+    floors: floorsDraft(),
+    falseRejectMaxPct: '',
   }
 }
 
@@ -59,6 +76,9 @@ export function draftOfProduct(p: ProductListItem): ProductDraft {
     coil: c
       ? { awg: c.awg, by: c.lengthM !== undefined ? 'length' : 'turns', turns: c.turns ?? '', meanDiameterMm: c.meanDiameterMm ?? '', lengthM: c.lengthM ?? '', layers: c.layers, strands: c.strands }
       : newProductDraft().coil,
+    floors: floorsDraft(p.limitFloors),
+    // The default threshold shows as an empty field (its placeholder), like a default floor.
+    falseRejectMaxPct: p.falseRejectMaxPct === DEFAULT_FALSE_REJECT_MAX_PCT ? '' : p.falseRejectMaxPct,
   }
 }
 
@@ -81,5 +101,8 @@ export function bodyOfDraft(d: ProductDraft): ProductCreateInput {
     coil: d.hasCoil ? coilOfDraft(d.coil) : null,
     reWarnPct: num(d.reWarnPct),
     retestLimit: num(d.retestLimit),
+    // Sent whole on every save (PATCH replaces the floors): a cleared field is a default again.
+    limitFloors: floorsOfDraft(d.floors),
+    falseRejectMaxPct: num(d.falseRejectMaxPct) ?? DEFAULT_FALSE_REJECT_MAX_PCT,
   }
 }

@@ -125,10 +125,10 @@ export function rankNearest(query: string, candidates: string[], limit = NEAREST
 export const UNIT_PARAMETERS: readonly { key: string; label: string; unit: string; check?: string }[] = [
   { key: 're20Ohm', label: 'Re at 20 °C', unit: 'Ω', check: 're20Ohm' },
   { key: 'fsHz', label: 'Fs', unit: 'Hz', check: 'fsHz' },
-  { key: 'qms', label: 'Qms', unit: '' },
-  { key: 'qes', label: 'Qes', unit: '' },
+  { key: 'qms', label: 'Qms', unit: '', check: 'qms' },
+  { key: 'qes', label: 'Qes', unit: '', check: 'qes' },
   { key: 'qts', label: 'Qts', unit: '', check: 'qts' },
-  { key: 'leMh', label: 'Le', unit: 'mH' },
+  { key: 'leMh', label: 'Le', unit: 'mH', check: 'leMh' },
   { key: 'sensitivityDb', label: 'Sensitivity (2.83 V, 1 m)', unit: 'dB SPL', check: 'sensitivityDb' },
   { key: 'thdMaxPct', label: 'THD (highest in band)', unit: '%', check: 'thdMaxPct' },
   { key: 'rubBuzzDb', label: 'Rub and buzz', unit: 'dB', check: 'rubBuzzDb' },

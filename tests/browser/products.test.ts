@@ -1,5 +1,5 @@
 import { afterAll, describe, expect, inject, it } from 'vitest'
-import { signInAs, useBrowser } from '../support/browser'
+import { hydrated, shot, signInAs, useBrowser } from '../support/browser'
 import { closeTestDb, testDb, unique } from '../support/db'
 
 const baseUrl = inject('baseUrl')
@@ -47,6 +47,74 @@ describe('an engineer adds a product with its voice coil in the browser', () => 
     await page.getByRole('button', { name: 'Save changes' }).click()
     await expect.poll(() => row.getByTestId('product-expected-re').textContent()).toBe('7.18 Ω')
     expect((await testDb()('products').where({ code }).first()).coil.turns).toBe(200)
+    await page.close()
+  })
+
+  it('sets a limit floor and the false-reject threshold, keeps them over a reload, and clears them back to the defaults', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'engineer', '/products')
+    const code = unique('FL')
+    await page.getByRole('button', { name: 'Add a product' }).click()
+    await page.fill('input[name=product-code]', code)
+    await page.fill('input[name=product-name]', 'Midrange 100 mm')
+    await page.fill('input[name=product-rated]', '8')
+    // Every floor shows its default (DEFAULT_FLOORS, common practice) as the placeholder of an empty field.
+    expect(await page.locator('input[name=floor-re20Ohm]').getAttribute('placeholder')).toBe('5')
+    expect(await page.locator('input[name=floor-splDb]').getAttribute('placeholder')).toBe('1.5')
+    expect(await page.locator('input[name=product-false-reject-max]').getAttribute('placeholder')).toBe('1')
+    expect(await page.getByTestId('product-floors-fields').textContent()).toContain('Response curve')
+    await page.getByRole('button', { name: 'Create product' }).click()
+    const row = page.getByTestId(`product-${code}`)
+    await expect.poll(() => row.count()).toBe(1)
+    // Nothing filled in: the defaults, stored as no floors at all.
+    expect(await row.getByTestId('product-floors').textContent()).toBe('defaults')
+    let stored = await testDb()('products').where({ code }).first()
+    expect(stored.limit_floors).toEqual({})
+    expect(stored.false_reject_max_pct).toBe(1)
+
+    await row.getByRole('button', { name: `Edit ${code}` }).click()
+    await page.fill('input[name=floor-re20Ohm]', '8')
+    await page.fill('input[name=product-false-reject-max]', '2')
+    await shot(page, 'products-floors-form')
+    await page.getByRole('button', { name: 'Save changes' }).click()
+    await expect.poll(() => row.getByTestId('product-floors').textContent()).toBe('Re (20 °C) ±8 %')
+    stored = await testDb()('products').where({ code }).first()
+    expect(stored.limit_floors).toEqual({ re20Ohm: 8 })
+    expect(stored.false_reject_max_pct).toBe(2)
+
+    await page.reload()
+    await hydrated(page)
+    expect(await row.getByTestId('product-floors').textContent()).toBe('Re (20 °C) ±8 %')
+    expect(await row.getByTestId('product-false-reject-max').textContent()).toContain('2 %')
+    await row.getByRole('button', { name: `Edit ${code}` }).click()
+    expect(await page.locator('input[name=floor-re20Ohm]').inputValue()).toBe('8')
+    expect(await page.locator('input[name=floor-fsHz]').inputValue()).toBe('') // untouched: still the default
+    expect(await page.locator('input[name=product-false-reject-max]').inputValue()).toBe('2')
+
+    // Emptied fields go back to the defaults.
+    await page.fill('input[name=floor-re20Ohm]', '')
+    await page.fill('input[name=product-false-reject-max]', '')
+    await page.getByRole('button', { name: 'Save changes' }).click()
+    await expect.poll(() => row.getByTestId('product-floors').textContent()).toBe('defaults')
+    stored = await testDb()('products').where({ code }).first()
+    expect(stored.limit_floors).toEqual({})
+    expect(stored.false_reject_max_pct).toBe(1)
+    expect(await row.getByTestId('product-false-reject-max').textContent()).toContain('1 %')
+    await page.close()
+  })
+
+  it('refuses a false-reject threshold outside 0.01–50 % beside its field and keeps the stored one', async () => {
+    const page = await browser().newPage({ viewport: { width: 1366, height: 900 } })
+    await signInAs(page, baseUrl, 'engineer', '/products')
+    const code = unique('FX')
+    await page.getByRole('button', { name: 'Add a product' }).click()
+    await page.fill('input[name=product-code]', code)
+    await page.fill('input[name=product-name]', 'Tweeter 25 mm')
+    await page.fill('input[name=product-false-reject-max]', '60')
+    await page.getByRole('button', { name: 'Create product' }).click()
+    await expect.poll(() => page.getByRole('alert').textContent()).toContain('Check the highlighted fields')
+    expect(await page.getByTestId('product-floors-fields').textContent()).toContain('the false-reject threshold is at most 50 %')
+    expect(await testDb()('products').where({ code }).first()).toBeUndefined()
     await page.close()
   })
 
