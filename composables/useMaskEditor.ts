@@ -1,7 +1,25 @@
-import type { CurveLimit, MaskView } from '#shared/types/api'
+import type { CurveLimit, MaskTransition, MaskView } from '#shared/types/api'
 import { maskLimitsSchema, maskReleaseSchema, maskRetireSchema } from '#shared/utils/mask'
 
 export type MaskLimitsDraft = MaskView['limits']
+
+/** A release the server held back: the draft's expected false-reject share is above the product's threshold. */
+export interface ReleaseRiskNotice {
+  message: string
+  falseRejectPct: number | null
+  thresholdPct: number | null
+  basis: 'known_good' | 'golden_model' | null
+}
+
+/** The held-back release in a 409 `false_reject_unconfirmed` answer, or null for any other failure. */
+export function releaseRiskOf(err: unknown): ReleaseRiskNotice | null {
+  const info = apiErrorOf(err)
+  if (info.code !== 'false_reject_unconfirmed') return null
+  const d = (err as { data?: { data?: Record<string, unknown> } }).data?.data ?? {}
+  const num = (v: unknown) => (typeof v === 'number' && Number.isFinite(v) ? v : null)
+  const basis = d.basis === 'known_good' || d.basis === 'golden_model' ? d.basis : null
+  return { message: info.message, falseRejectPct: num(d.falseRejectPct), thresholdPct: num(d.thresholdPct), basis }
+}
 
 const clone = <T>(v: T): T => JSON.parse(JSON.stringify(v)) as T
 
@@ -31,6 +49,7 @@ export async function useMaskEditor(id: number) {
   const limits = ref<MaskLimitsDraft | null>(null)
   const { busy, error, run: act } = useAction()
   const notice = ref<string | null>(null)
+  const releaseRisk = ref<ReleaseRiskNotice | null>(null)
 
   watch(res.data, (m) => (limits.value = m ? clone(m.limits) : null), { immediate: true })
   const editable = computed(() => res.data.value?.status === 'draft')
@@ -38,6 +57,8 @@ export async function useMaskEditor(id: number) {
 
   function run(fn: () => Promise<unknown>): Promise<boolean> {
     notice.value = null
+    // A held-back release's figure was for the draft as it was: any new action asks afresh.
+    releaseRisk.value = null
     return act(async () => {
       await fn()
       // The overview and the products' active mask change with every state change.
@@ -69,18 +90,27 @@ export async function useMaskEditor(id: number) {
     if (res.data.value) limits.value = clone(res.data.value.limits)
   }
 
-  async function release(comment: string): Promise<boolean> {
-    const parsed = maskReleaseSchema.safeParse({ comment })
+  /** Releases the saved draft; a share over the product's threshold is held back (releaseRisk) until sent again confirmed. */
+  async function release(comment: string, confirmFalseReject = false): Promise<boolean> {
+    const parsed = maskReleaseSchema.safeParse({ comment, confirmFalseReject: confirmFalseReject || undefined })
     if (!parsed.success) {
       error.value = parsed.error.issues[0]?.message ?? 'Say why this mask is released.'
       return false
     }
     const releaseUrl: string = `${url}/release`
     let judged = 0
+    let held = false
     const ok = await run(async () => {
-      const r = await $fetch<{ judgedUnjudged: number }>(releaseUrl, { method: 'POST', body: parsed.data })
-      judged = r.judgedUnjudged
+      try {
+        const r = await $fetch<MaskTransition>(releaseUrl, { method: 'POST', body: parsed.data })
+        judged = r.judgedUnjudged ?? 0
+      } catch (err) {
+        releaseRisk.value = releaseRiskOf(err)
+        if (!releaseRisk.value) throw err
+        held = true
+      }
     })
+    if (held) return false
     if (ok) notice.value = `Released. ${judged} result${judged === 1 ? '' : 's'} that had no verdict ${judged === 1 ? 'was' : 'were'} judged by it.`
     return ok
   }
@@ -93,5 +123,5 @@ export async function useMaskEditor(id: number) {
     return ok
   }
 
-  return { mask: res.data, fetchError: res.error, limits, editable, dirty, busy, error, notice, save, discard, release, retire }
+  return { mask: res.data, fetchError: res.error, limits, editable, dirty, busy, error, notice, releaseRisk, save, discard, release, retire }
 }

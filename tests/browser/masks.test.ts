@@ -2,8 +2,8 @@ import { join } from 'node:path'
 import type { Page } from 'playwright-core'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { generateRecording } from '../../fixtures/generator'
-import type { RecordingView } from '../../shared/types/api'
-import { signInAs, useBrowser } from '../support/browser'
+import type { MaskView, RecordingView } from '../../shared/types/api'
+import { hydrated, signInAs, useBrowser } from '../support/browser'
 import { closeTestDb, makeProduct, makeStation, unique } from '../support/db'
 import { getRecording, postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
@@ -23,16 +23,36 @@ const golden: RecordingView[] = []
 const consoleLines: string[] = []
 
 /** One healthy generated unit through the station API, analysed by the worker. */
-async function uploadUnit(seed: number): Promise<RecordingView> {
+async function uploadUnit(seed: number, productCode = product.code): Promise<RecordingView> {
   const auth = { token: station.token }
   const serial = unique('GU')
-  const up = await postRecording(baseUrl, auth, { serial, product: product.code, station: station.id }, { bytes: generateRecording({ seed }), name: `${serial}.wav` })
+  const up = await postRecording(baseUrl, auth, { serial, product: productCode, station: station.id }, { bytes: generateRecording({ seed }), name: `${serial}.wav` })
   expect(up.status).toBe(202)
   return waitFinished(baseUrl, auth, up.body.id)
 }
 
 /** The mask's state badge on its page, e.g. "Released · active". */
 const statusText = async () => ((await page.getByTestId('mask-status').first().textContent()) ?? '').replace(/\s+/g, ' ').trim()
+
+/** The mask as the API gives it to the page (the test's reference for what the page shows). */
+async function getMask(id: number): Promise<MaskView> {
+  return (await (await page.request.get(new URL(`/api/masks/${id}`, baseUrl).toString())).json()) as MaskView
+}
+
+const squash = (t: string | null) => (t ?? '').replace(/\s+/g, ' ').trim()
+
+/** Each proposal rule in the words the page uses beside a limit. */
+const RULE_WORDS: Record<string, string> = { interval: 'tolerance interval', floor: 'floor (common practice)', k_sigma: 'fixed k', mixed: 'tolerance interval and floor' }
+
+/** A share shown as "0.4 %" (or "< 0.01 %") agrees with the share 0–1 to the digits shown. */
+function expectShareShown(text: string | null, share: number) {
+  const t = squash(text)
+  if (t === '< 0.01 %') return expect(100 * share).toBeLessThan(0.01)
+  const m = /^(\d+(?:\.(\d+))?) %$/.exec(t)
+  expect(m, `"${t}" is a percentage`).not.toBeNull()
+  const decimals = m![2]?.length ?? 0
+  expect(Math.abs(Number(m![1]) - 100 * share)).toBeLessThanOrEqual(0.5 * 10 ** -decimals + 1e-9)
+}
 
 async function shot(name: string, fullPage = false) {
   if (shots) await page.screenshot({ path: join(shots, `${name}.png`), fullPage })
@@ -93,6 +113,14 @@ describe('an engineer builds, previews and releases a mask', () => {
     const advice = await page.getByTestId('golden-advice').textContent()
     expect(advice).toMatch(/With\s+6\s+units, σ is known to about ±31\.6 %/)
     expect(advice).toMatch(/about\s+3\.9 %\s+of good units/)
+    // Tolerance intervals by default: coverage and confidence empty with their defaults shown, no fixed k, the measured value decides.
+    expect(await page.getByTestId('mask-coverage').getAttribute('placeholder')).toBe('99')
+    expect(await page.getByTestId('mask-confidence').getAttribute('placeholder')).toBe('95')
+    expect(await page.getByTestId('mask-k').inputValue()).toBe('')
+    // The response floor stays the product's own unless typed: 1.5 dB by default (shared/utils/mask.ts, common practice).
+    expect(await page.getByTestId('mask-floor').inputValue()).toBe('')
+    expect(await page.getByTestId('mask-floor').getAttribute('placeholder')).toContain('1.5')
+    expect(await page.getByTestId('mask-decision').inputValue()).toBe('simple')
     await page.getByTestId('mask-name').fill('browser test limits')
     await page.evaluate('window.scrollTo(0, 0)')
     await shot('mask-new')
@@ -101,6 +129,9 @@ describe('an engineer builds, previews and releases a mask', () => {
     await page.waitForURL((u) => /^\/masks\/\d+$/.test(u.pathname), { timeout: 20_000 })
     maskId = Number(new URL(page.url()).pathname.split('/').pop())
     expect(maskId).toBeGreaterThan(0)
+    const view = await getMask(maskId)
+    expect(view.proposal).toMatchObject({ coverage: 0.99, confidence: 0.95, fixedK: null, goldenUnits: GOLDEN_COUNT })
+    expect(view.limits.decisionRule).toBe('simple')
   })
 
   it('shows the proposed draft and redraws the chart as a breakpoint changes', async () => {
@@ -136,6 +167,61 @@ describe('an engineer builds, previews and releases a mask', () => {
     expect(await breakpoints.count()).toBe(n)
   })
 
+  it('says beside each limit how it was proposed and what share of good units it is expected to fail', async () => {
+    const view = await getMask(maskId)
+    const fs = view.proposal!.scalars.fsHz!
+    const line = page.locator('[data-scalar-basis="fsHz"]')
+    const text = squash(await line.textContent())
+    expect(text).toContain(RULE_WORDS[fs.rule])
+    expect(text).toContain(`n ${GOLDEN_COUNT} `)
+    // k to three significant digits: within half a unit of the third digit.
+    const k = Number(await line.getByTestId('limit-basis-k').textContent())
+    expect(Math.abs(k - fs.k)).toBeLessThanOrEqual(0.005 * fs.k)
+    expectShareShown(await line.getByTestId('limit-basis-estimate').textContent(), view.estimate.byCheck.fsHz!)
+    expect(await line.getByTestId('limit-basis-edited').count()).toBe(0)
+
+    const spl = view.proposal!.curves.splDb!
+    const curveLine = squash(await page.getByTestId('mask-curve-spl').getByTestId('limit-basis').textContent())
+    expect(curveLine).toContain(`n ${spl.n} `)
+    expect(curveLine).toContain(`floor on ${spl.sidesByFloor} of ${spl.sides} point sides`)
+    expect(curveLine).toContain(RULE_WORDS[spl.rule])
+
+    const overall = squash(await page.getByTestId('mask-estimate-overall').textContent())
+    expect(overall).toContain(`estimated from the ${GOLDEN_COUNT} golden units, normal model`)
+    expectShareShown(/^About (.+? %) of good units/.exec(overall)?.[1] ?? '', view.estimate.overall)
+    expect(squash(await page.getByTestId('mask-coverage').textContent())).toContain(
+      `Tolerance intervals for 99 % of good units at 95 % confidence, shared over ${view.proposal!.limitCount} limits`,
+    )
+    // Six golden units are fewer than the proposal's eight (server/limits/propose.ts, our choice): its warning is on show.
+    expect(view.proposal!.warnings.map((w) => w.code)).toContain('few_golden_units')
+    expect(await page.getByTestId('mask-proposal-warnings').textContent()).toContain(`Only ${GOLDEN_COUNT} golden units`)
+    // No production beside the golden units yet: nothing to compare their spread with.
+    expect(await page.getByTestId('mask-spread').textContent()).toContain('No production history')
+  })
+
+  it('chooses how the draft decides near a limit: the explanation follows the choice, and it is saved with the draft', async () => {
+    const select = page.getByTestId('mask-decision-select')
+    const explain = page.getByTestId('mask-decision-explain')
+    expect(await select.inputValue()).toBe('simple')
+    const simpleText = await explain.textContent()
+    await select.selectOption('guarded_fail')
+    await expect.poll(() => explain.textContent()).not.toBe(simpleText)
+    expect(await explain.textContent()).toMatch(/fails/)
+    expect(await page.getByTestId('mask-savebar').textContent()).toContain('Unsaved changes')
+    await page.getByTestId('mask-save').click()
+    await expect.poll(() => page.getByTestId('mask-savebar').textContent()).toContain('All changes saved')
+    expect((await getMask(maskId)).limits.decisionRule).toBe('guarded_fail')
+    await page.reload()
+    await hydrated(page)
+    expect(await page.getByTestId('mask-decision-select').inputValue()).toBe('guarded_fail')
+
+    // Back to the measured value for the rest of this flow.
+    await page.getByTestId('mask-decision-select').selectOption('simple')
+    await page.getByTestId('mask-save').click()
+    await expect.poll(async () => (await getMask(maskId)).limits.decisionRule).toBe('simple')
+    expect(await page.getByTestId('mask-decision-explain').textContent()).toBe(simpleText)
+  })
+
   it('previews a tightened Fs limit on past results, then the proposal, before release', async () => {
     const fsLow = await page.getByTestId('scalar-fsHz-low').inputValue()
     const fsHigh = await page.getByTestId('scalar-fsHz-high').inputValue()
@@ -151,6 +237,12 @@ describe('an engineer builds, previews and releases a mask', () => {
     expect(await page.getByTestId('preview-changed').textContent()).toContain('Fs')
     const fsRow = page.getByTestId('preview-by-check').locator('tr', { hasText: 'Fs' })
     expect((await fsRow.locator('td').allTextContents())[0]).toBe(String(GOLDEN_COUNT))
+    // The golden units are known good: the draft would fail all of them.
+    expect(squash(await page.getByTestId('preview-known-good').textContent())).toContain(`On ${GOLDEN_COUNT} known-good units the draft would fail ${GOLDEN_COUNT} (100 %)`)
+    // The saved Fs limit is no longer the proposed one, and nearly every good unit would fail it.
+    const fsBasis = page.locator('[data-scalar-basis="fsHz"]')
+    expect(await fsBasis.getByTestId('limit-basis-edited').count()).toBe(1)
+    expect(Number.parseFloat((await fsBasis.getByTestId('limit-basis-estimate').textContent()) ?? '')).toBeGreaterThan(99)
     await shot('mask-preview-tight')
 
     await page.getByTestId('scalar-fsHz-low').fill(fsLow)
@@ -158,6 +250,8 @@ describe('an engineer builds, previews and releases a mask', () => {
     await page.getByTestId('mask-preview-run').click()
     await expect.poll(() => draftYield.textContent().catch(() => ''), { timeout: 20_000 }).toContain('100.0 %')
     expect(await draftYield.textContent()).toMatch(/6\s+pass\s+·\s+0\s+fail/)
+    expect(squash(await page.getByTestId('preview-known-good').textContent())).toContain(`On ${GOLDEN_COUNT} known-good units the draft would fail 0 (0 %)`)
+    expect(await page.locator('[data-scalar-basis="fsHz"]').getByTestId('limit-basis-edited').count()).toBe(0)
     await page.waitForTimeout(500) // the smooth scroll to the answer
     await shot('mask-preview-pass')
     const saved = (await (await page.request.get(new URL(`/api/masks/${maskId}`, baseUrl).toString())).json()) as { limits: { scalars: { fsHz: unknown } } }
@@ -177,6 +271,10 @@ describe('an engineer builds, previews and releases a mask', () => {
     // Read-only now: no inputs in the tables, no save bar.
     expect(await page.getByTestId('mask-savebar').count()).toBe(0)
     expect(await page.getByTestId('mask-scalars').locator('input[type=number]').count()).toBe(0)
+    // The decision rule is shown, no longer chosen, with the same explanation.
+    expect(await page.getByTestId('mask-decision-select').count()).toBe(0)
+    expect(await page.getByTestId('mask-decision-label').textContent()).toBeTruthy()
+    expect(await page.getByTestId('mask-decision-explain').textContent()).toMatch(/measured value decides/)
     expect(await page.getByTestId('mask-history').textContent()).toContain(why)
     expect(await page.getByTestId('mask-retire-comment').inputValue()).toBe('')
     await shot('mask-released')
@@ -245,5 +343,64 @@ describe('an engineer builds, previews and releases a mask', () => {
     await expect.poll(statusText, { timeout: 20_000 }).toBe('Retired')
     const unit = await uploadUnit(799)
     expect(unit).toMatchObject({ status: 'done', verdict: null, maskVersion: null })
+  })
+})
+
+describe('a release expected to fail more good units than the product allows asks once more', () => {
+  const GATE_GOLDEN = 5
+  let gate: { id: number; code: string }
+  let gateMask: MaskView
+
+  beforeAll(async () => {
+    gate = await makeProduct(unique('GATE'), 6)
+    // A threshold of 0.01 % of good units: any real estimate is above it.
+    const patched = await page.request.patch(new URL(`/api/products/${gate.code}`, baseUrl).toString(), { data: { falseRejectMaxPct: 0.01 } })
+    expect(patched.status()).toBe(200)
+    // Five golden units and two more as production, so the spread has something to compare with.
+    const units: RecordingView[] = []
+    for (let i = 0; i < GATE_GOLDEN + 2; i++) units.push(await uploadUnit(760 + i, gate.code))
+    const goldenSerials = units.slice(0, GATE_GOLDEN).map((u) => u.serial)
+    // A fixed k = 2 on five units: the golden model expects some good units to fail.
+    const created = await page.request.post(new URL('/api/masks', baseUrl).toString(), { data: { product: gate.code, goldenSerials, k: 2 } })
+    expect(created.status()).toBe(201)
+    gateMask = (await created.json()) as MaskView
+    expect(100 * gateMask.estimate.overall).toBeGreaterThan(0.01)
+  }, 300_000)
+
+  it('shows the fixed k and the golden spread against the two production units', async () => {
+    await page.goto(new URL(`/masks/${gateMask.id}`, baseUrl).toString())
+    await hydrated(page)
+    expect(await page.getByTestId('mask-coverage').textContent()).toContain('fixed k = 2 instead of tolerance intervals')
+    const fs = gateMask.proposal!.spread.fsHz!
+    expect(fs).toMatchObject({ goldenN: GATE_GOLDEN, historyN: 2 })
+    const row = page.locator('[data-spread="fsHz"]')
+    const text = squash(await row.textContent())
+    expect(text).toContain(`golden (n ${GATE_GOLDEN})`)
+    expect(text).toContain('production (n 2)')
+    // Two production units are too few for the warning (30, server/limits/propose.ts): never marked, whatever the ratio.
+    expect(await row.getAttribute('data-narrow')).toBeNull()
+    await shot('mask-spread')
+  })
+
+  it('holds the release back with the figure in words, focused, and releases on the second, explicit confirmation', async () => {
+    await page.getByTestId('mask-release-comment').fill('first limits for the gate product (browser test)')
+    await page.getByTestId('mask-release-button').click()
+    const risk = page.getByTestId('mask-release-risk')
+    await expect.poll(() => risk.count(), { timeout: 20_000 }).toBe(1)
+    const message = squash(await page.getByTestId('mask-release-risk-message').textContent())
+    expect(message).toMatch(/about 1 good unit in \d+/)
+    expect(message).toContain('0.01 % threshold')
+    await expect.poll(() => page.evaluate(() => document.activeElement?.getAttribute('data-testid'))).toBe('mask-release-risk')
+    expect(await page.getByTestId('mask-release-button').count()).toBe(0)
+    expect(await statusText()).toBe('Draft')
+    expect((await getMask(gateMask.id)).status).toBe('draft')
+    await shot('mask-release-risk')
+
+    const confirm = page.getByTestId('mask-release-confirm')
+    expect(await confirm.textContent()).toMatch(/anyway, accepting .+ % false rejects/)
+    await confirm.click()
+    await expect.poll(() => page.getByTestId('mask-notice').textContent().catch(() => ''), { timeout: 20_000 }).toContain('Released.')
+    await expect.poll(statusText).toBe('Released · active')
+    expect((await getMask(gateMask.id)).status).toBe('released')
   })
 })
