@@ -29,6 +29,8 @@ import {
   DEFAULT_DECISION_RULE,
   CHECK_LABELS,
   DEFAULT_FLOORS,
+  GOLDEN_SPREAD_HISTORY_MIN,
+  GOLDEN_SPREAD_WARN_RATIO,
   SCALAR_LIMIT_NAMES,
   UPPER_ONLY,
   figureValue,
@@ -347,7 +349,7 @@ export function proposeMask(golden: readonly GoldenResult[], opts: ProposeOption
   if (golden.length < FEW_GOLDEN_UNITS) {
     warnings.push({
       code: 'few_golden_units',
-      text: `Only ${golden.length} golden units: with fewer than ${FEW_GOLDEN_UNITS} the spread is rough and the tolerance factors large. Add golden units if you can.`,
+      text: `Only ${golden.length} golden units: with fewer than ${FEW_GOLDEN_UNITS} their spread is a rough guide to production's${opts.k === undefined ? ' and the tolerance factors are large' : ''}. Add golden units if you can.`,
     })
   }
   const limits: MaskLimits = {
@@ -395,16 +397,11 @@ function bandSpec(
   }
 }
 
-/** Production units the spread comparison needs before it says anything. */
-export const MIN_HISTORY_UNITS = 30
-/** Golden σ below this share of production's robust σ draws the warning (our choice: half). */
-export const GOLDEN_SPREAD_RATIO_WARN = 0.5
-
 /**
  * The golden units' spread against the product's production (each unit's latest result, golden
  * units left out), per figure: the golden sample standard deviation over production's robust σ
- * (1.4826 × MAD, so a few defective units do not widen it). A ratio below GOLDEN_SPREAD_RATIO_WARN
- * with at least MIN_HISTORY_UNITS production units draws a warning: limits from units more alike
+ * (1.4826 × MAD, so a few defective units do not widen it). A ratio below GOLDEN_SPREAD_WARN_RATIO
+ * with at least GOLDEN_SPREAD_HISTORY_MIN production units draws a warning: limits from units more alike
  * than the line reject good units (the floors soften this; the warning says so).
  */
 export function compareSpreads(
@@ -421,7 +418,7 @@ export function compareSpreads(
     if (!g || g.n < MIN_GOLDEN_UNITS || historySd === null || !(historySd > 0)) continue
     const ratio = g.sd / historySd
     spread[name] = { goldenSd: round(g.sd, 4), goldenN: g.n, historySd: round(historySd, 4), historyN: values.length, ratio: round(ratio, 3) }
-    if (values.length >= MIN_HISTORY_UNITS && ratio < GOLDEN_SPREAD_RATIO_WARN) {
+    if (values.length >= GOLDEN_SPREAD_HISTORY_MIN && ratio < GOLDEN_SPREAD_WARN_RATIO) {
       warnings.push({
         code: 'golden_more_alike',
         figure: name,

@@ -64,9 +64,9 @@ export const DEFAULT_CONFIDENCE = 0.95
 /** A product's false-reject share above which a release asks twice, % (default 1 %). */
 export const DEFAULT_FALSE_REJECT_MAX_PCT = 1
 /**
- * The golden-spread comparison's warning, as the mask page marks it: golden σ below this share of
- * production's σ, over at least GOLDEN_SPREAD_HISTORY_MIN production units. The same values as
- * GOLDEN_SPREAD_RATIO_WARN and MIN_HISTORY_UNITS in server/limits/propose.ts (our choice: half).
+ * The golden-spread comparison's warning (server/limits/propose.ts compareSpreads, and the mask
+ * page's chart): golden σ below this share of production's robust σ, over at least
+ * GOLDEN_SPREAD_HISTORY_MIN production units (our choice: half).
  */
 export const GOLDEN_SPREAD_WARN_RATIO = 0.5
 export const GOLDEN_SPREAD_HISTORY_MIN = 30
