@@ -34,6 +34,18 @@ async function testUnit(seed: number, serial = unique('MU')): Promise<RecordingV
   return waitFinished(host, tech, up.body.id)
 }
 
+/** Five new units of a product measured from generator seeds firstSeed…firstSeed + 4; their serials. */
+async function measureFive(code: string, firstSeed: number): Promise<string[]> {
+  const serials: string[] = []
+  for (let i = 0; i < 5; i++) {
+    const serial = unique('MF')
+    const up = await postRecording(host, tech, { serial, product: code, station: station.id }, { bytes: generateRecording({ seed: firstSeed + i }), name: `${firstSeed + i}.wav` })
+    await waitFinished(host, tech, up.body.id)
+    serials.push(serial)
+  }
+  return serials
+}
+
 beforeAll(async () => {
   worker = startWorker()
   await worker.ready
@@ -73,13 +85,7 @@ describe('the voice-coil cross-check', () => {
     const created = await api<{ expectedRe20Ohm: number }>('POST', '/api/products', { code, name: 'Coil check', ratedImpedanceOhm: 6, coil: { awg: 31, lengthM: 20, layers: 4 } })
     expect(created.status).toBe(201)
     expect(created.body.expectedRe20Ohm).toBeGreaterThan(8)
-    const serials: string[] = []
-    for (let i = 0; i < 5; i++) {
-      const serial = unique('CU')
-      const up = await postRecording(host, tech, { serial, product: code, station: station.id }, { bytes: generateRecording({ seed: 450 + i }), name: 'c.wav' })
-      await waitFinished(host, tech, up.body.id)
-      serials.push(serial)
-    }
+    const serials = await measureFive(code, 450)
     const mask = await api<MaskView>('POST', '/api/masks', { product: code, goldenSerials: serials })
     expect(mask.status).toBe(201)
     expect(mask.body.expectedRe20Ohm).toBeCloseTo(created.body.expectedRe20Ohm, 6)
@@ -300,13 +306,7 @@ describe('statistical proposals, their estimate and the release gate', () => {
   it('asks twice before releasing a mask expected to reject more good units than the product allows', async () => {
     const code = unique('GATE')
     expect((await api('POST', '/api/products', { code, name: 'Gate check', ratedImpedanceOhm: 6, falseRejectMaxPct: 0.01 })).status).toBe(201)
-    const gateSerials: string[] = []
-    for (let i = 0; i < 5; i++) {
-      const serial = unique('GU')
-      const up = await postRecording(host, tech, { serial, product: code, station: station.id }, { bytes: generateRecording({ seed: 470 + i }), name: 'g.wav' })
-      await waitFinished(host, tech, up.body.id)
-      gateSerials.push(serial)
-    }
+    const gateSerials = await measureFive(code, 470)
     // A fixed k = 2 on five units: the golden model expects several per cent of good units to fail.
     const m = (await api<MaskView>('POST', '/api/masks', { product: code, goldenSerials: gateSerials, k: 2 })).body
     expect(m.estimate.overall).toBeGreaterThan(0.0001)
