@@ -278,6 +278,18 @@ describe('an engineer builds, previews and releases a mask', () => {
     expect(await page.getByTestId('mask-history').textContent()).toContain(why)
     expect(await page.getByTestId('mask-retire-comment').inputValue()).toBe('')
     await shot('mask-released')
+    // The answer to the click sits at the top of the page: the notice is brought into view and given the focus.
+    await expect.poll(() => page.evaluate(() => document.activeElement?.getAttribute('data-testid'))).toBe('mask-notice')
+    await expect.poll(async () => {
+      const box = await page.getByTestId('mask-notice').boundingBox()
+      return !!box && box.y >= 0 && box.y + box.height <= page.viewportSize()!.height
+    }).toBe(true)
+    // The limits CSV is one click away on the mask page.
+    const csvHref = await page.getByTestId('mask-limits-csv').getAttribute('href')
+    expect(csvHref).toBe(`/api/masks/${maskId}/limits.csv`)
+    const csv = await page.request.get(new URL(csvHref!, baseUrl).toString())
+    expect(csv.headers()['content-type']).toContain('text/csv')
+    expect((await csv.text()).split('\n')[0]).toMatch(/^product,mask_version,status,decision_rule,check/)
 
     const view = (await (await page.request.get(new URL(`/api/masks/${maskId}`, baseUrl).toString())).json()) as { version: number }
     const waiting = (await getRecording(baseUrl, { token: station.token }, golden[0]!.id)).body
