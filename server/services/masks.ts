@@ -132,24 +132,33 @@ export interface ReleaseRisk {
 }
 
 /**
- * The false-reject share a draft is expected to have: on the product's known-good units when the
- * preview has at least MIN_KNOWN_GOOD of them, else from the golden units (normal model).
+ * The false-reject share the release gate reads: the larger of the golden units' estimate (normal
+ * model) and, when there are at least MIN_KNOWN_GOOD of them, the share of the product's known-good
+ * units the draft fails. The known-good set holds the golden units and units the current mask
+ * passed, so a draft much like the current mask fails none of them whatever its statistical risk;
+ * the golden estimate keeps the gate from reading that as no risk.
  */
+export function gateShare(known: { units: number; draftFails: number }, goldenEstimate: number): Pick<ReleaseRisk, 'share' | 'basis'> {
+  const knownShare = known.units >= MIN_KNOWN_GOOD ? known.draftFails / known.units : -1
+  return knownShare > goldenEstimate ? { share: knownShare, basis: 'known_good' } : { share: goldenEstimate, basis: 'golden_model' }
+}
+
+/** The release gate's share for a draft (see gateShare) and the product's threshold. */
 export async function releaseRisk(db: Knex, maskId: number): Promise<ReleaseRisk> {
   const view = await getMaskView(db, maskId)
   const preview = (await previewMask(db, maskId, PREVIEW_UNITS))!
   const product = (await getProductById(db, view.productId))!
-  const known = preview.knownGood
-  return known.units >= MIN_KNOWN_GOOD
-    ? { share: known.draftFails / known.units, basis: 'known_good', thresholdPct: product.falseRejectMaxPct }
-    : { share: view.estimate.overall, basis: 'golden_model', thresholdPct: product.falseRejectMaxPct }
+  return { ...gateShare(preview.knownGood, view.estimate.overall), thresholdPct: product.falseRejectMaxPct }
 }
 
-/** A share as people say it: "2.4 % (about 1 good unit in 42)". */
+/** A share as people say it: "2.4 % (about 1 good unit in 42)", "80.0 % (most good units)". */
 export function shareInWords(share: number): string {
   const pct = 100 * share
-  const oneIn = share > 0 ? Math.round(1 / share) : null
-  return `${pct < 0.1 ? pct.toFixed(2) : pct.toFixed(1)} %${oneIn ? ` (about 1 good unit in ${oneIn})` : ''}`
+  const figure = `${pct < 0.1 ? pct.toFixed(2) : pct.toFixed(1)} %`
+  if (share <= 0) return figure
+  const oneIn = Math.round(1 / share)
+  if (oneIn > 1) return `${figure} (about 1 good unit in ${oneIn})`
+  return `${figure} (${share >= 0.995 ? 'all' : 'most'} good units)`
 }
 
 /**
