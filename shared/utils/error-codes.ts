@@ -114,6 +114,7 @@ export const ERROR_CODES = {
   too_few_points: { status: 422, message: 'Too few values for this statistic' },
   non_finite_value: { status: 422, message: 'A value is not a finite number' },
   invalid_option: { status: 422, message: 'An option is not valid' },
+  unbalanced_study: { status: 422, message: 'The gauge study is missing measurements or has unequal trials' },
 
   // Too many tries.
   sign_in_limited: { status: 429, message: 'Too many failed sign-ins: wait and try again' },
