@@ -61,7 +61,7 @@ export async function listLotResults(db: Knex, lotId: number): Promise<LotResult
   const rows = await db('units as u')
     .join('results as res', 'res.unit_id', 'u.id')
     .join('recordings as r', 'r.id', 'res.recording_id')
-    .where({ 'u.lot_id': lotId, 'r.is_return_test': false })
+    .where({ 'u.lot_id': lotId, 'r.purpose': 'production' })
     .orderBy([{ column: 'r.uploaded_at' }, { column: 'res.id' }])
     .select(
       'u.id as unit_id', 'u.serial', 'res.id as result_id', 'r.uploaded_at', 'res.verdict', 'res.retest_reason',
@@ -133,7 +133,7 @@ export async function listLots(db: Knex, filter: LotFilter = {}): Promise<LotSum
         FROM lot
         JOIN units u ON u.lot_id = lot.id
         JOIN results res ON res.unit_id = u.id
-        JOIN recordings r ON r.id = res.recording_id AND NOT r.is_return_test
+        JOIN recordings r ON r.id = res.recording_id AND r.purpose = 'production'
        GROUP BY u.lot_id, u.id
     ),
     per_lot AS (
@@ -210,7 +210,7 @@ export async function listDayYield(db: Knex, from: Date, to: Date): Promise<Line
           JOIN units u ON u.id = res.unit_id
           JOIN products p ON p.id = u.product_id
           LEFT JOIN stations s ON s.id = r.station_id
-         WHERE r.uploaded_at >= ? AND r.uploaded_at < ? AND NOT r.is_return_test
+         WHERE r.uploaded_at >= ? AND r.uploaded_at < ? AND r.purpose = 'production'
          GROUP BY 1, 2, 3
       ) per_unit
      GROUP BY line, product_code
@@ -254,7 +254,7 @@ export async function listNeedsReview(db: Knex, lotId: number): Promise<NeedsRev
         FROM units u
         JOIN products p ON p.id = u.product_id
         JOIN results res ON res.unit_id = u.id
-        JOIN recordings r ON r.id = res.recording_id AND NOT r.is_return_test
+        JOIN recordings r ON r.id = res.recording_id AND r.purpose = 'production'
        WHERE u.lot_id = ?
     )
     SELECT serial, count(*) AS retests,

@@ -1,5 +1,5 @@
 import type { Knex } from 'knex'
-import type { RecordingStatus } from '../../shared/utils/recordings.ts'
+import type { RecordingPurpose, RecordingStatus } from '../../shared/utils/recordings.ts'
 import type { CurveLimit, RecordingCurves, RecordingSummary, RecordingView } from '../../shared/types/api.ts'
 import { RETEST_ADVICE, type RetestReason, type Verdict } from '../../shared/utils/verdict.ts'
 
@@ -22,6 +22,7 @@ export interface RecordingRow {
   ambient_c: number | null
   note: string | null
   is_return_test: boolean
+  purpose: RecordingPurpose
   return_id: string | null
 }
 
@@ -39,6 +40,8 @@ export interface NewRecording {
   note: string | null
   /** A return test (glossary) of this return: never counts in production yield. Set once, at insert. */
   returnId?: number | null
+  /** A station check: a reference unit measured again (never counts in production either). */
+  stationCheck?: boolean
 }
 
 export async function insertRecording(db: Knex, r: NewRecording): Promise<number> {
@@ -55,7 +58,8 @@ export async function insertRecording(db: Knex, r: NewRecording): Promise<number
       storage_key: r.storageKey,
       ambient_c: r.ambientC,
       note: r.note,
-      ...(r.returnId ? { return_id: r.returnId, is_return_test: true } : {}),
+      ...(r.returnId ? { return_id: r.returnId, is_return_test: true, purpose: 'return_test' } : {}),
+      ...(r.stationCheck && !r.returnId ? { purpose: 'station_check' } : {}),
     })
     .returning('id')
   return Number(row.id)
@@ -124,7 +128,7 @@ function viewQuery(db: Knex) {
 }
 
 const SUMMARY_COLUMNS = [
-  'r.id', 'r.status', 'r.kind', 'r.uploaded_at', 'r.finished_at', 'r.error_code', 'r.error_message', 'r.station_id', 'r.original_name', 'r.is_return_test',
+  'r.id', 'r.status', 'r.kind', 'r.uploaded_at', 'r.finished_at', 'r.error_code', 'r.error_message', 'r.station_id', 'r.original_name', 'r.is_return_test', 'r.purpose',
   'u.serial', 'p.code as product_code', 'l.code as lot_code', 's.name as station_name',
   'res.id as result_id', 'res.verdict', 'res.retest_reason', 'res.checks', 'm.version as mask_version',
 ]
@@ -140,6 +144,7 @@ interface SummaryRow {
   station_id: string | null
   original_name: string
   is_return_test: boolean
+  purpose: RecordingPurpose
   serial: string
   product_code: string
   lot_code: string | null
@@ -172,6 +177,7 @@ function toSummary(r: SummaryRow): RecordingSummary {
     finishedAt: r.finished_at ? r.finished_at.toISOString() : null,
     originalName: r.original_name,
     returnTest: r.is_return_test,
+    purpose: r.purpose,
     maskVersion: r.mask_version,
     error: r.error_code ? { code: r.error_code, message: r.error_message ?? '' } : null,
   }

@@ -151,23 +151,23 @@ function toStored(r: StoredRow): StoredResult {
   }
 }
 
-/** Results of a product, newest first: production only, unless return tests are asked for too. */
-export function productResultsQuery(db: Knex, productId: number, includeReturnTests = false) {
+/** Results of a product, newest first: production tests only, unless every purpose (return tests, station checks) is asked for. */
+export function productResultsQuery(db: Knex, productId: number, anyPurpose = false) {
   const q = db('results as res')
     .join('recordings as r', 'r.id', 'res.recording_id')
     .join('units as u', 'u.id', 'res.unit_id')
     .where({ 'u.product_id': productId })
     .select(STORED_COLUMNS)
     .orderBy('res.id', 'desc')
-  return includeReturnTests ? q : q.where('r.is_return_test', false)
+  return anyPurpose ? q : q.where('r.purpose', 'production')
 }
 
 export async function listProductResults(
   db: Knex,
   productId: number,
-  opts: { last?: number; unjudgedOnly?: boolean; recordingIds?: number[]; includeReturnTests?: boolean } = {},
+  opts: { last?: number; unjudgedOnly?: boolean; recordingIds?: number[]; anyPurpose?: boolean } = {},
 ): Promise<StoredResult[]> {
-  const q = productResultsQuery(db, productId, opts.includeReturnTests)
+  const q = productResultsQuery(db, productId, opts.anyPurpose)
   if (opts.unjudgedOnly) q.whereNull('res.verdict')
   if (opts.recordingIds) q.whereIn('res.recording_id', opts.recordingIds)
   if (opts.last) q.limit(opts.last)
@@ -179,6 +179,12 @@ export async function listLatestPerUnit(db: Knex, productId: number, limit: numb
   const inner = productResultsQuery(db, productId).clearOrder().distinctOn('res.unit_id').orderBy([{ column: 'res.unit_id' }, { column: 'res.id', order: 'desc' }])
   if (serials) inner.whereIn('u.serial', serials)
   const rows = (await db.select('*').from(inner.as('latest')).orderBy('result_id', 'desc').limit(limit)) as StoredRow[]
+  return rows.map(toStored)
+}
+
+/** One unit's results measured on one station, newest first, whatever they were made for. */
+export async function listUnitResultsOnStation(db: Knex, productId: number, unitId: number, stationId: number, limit: number): Promise<StoredResult[]> {
+  const rows = (await productResultsQuery(db, productId, true).where({ 'res.unit_id': unitId, 'r.station_id': stationId }).limit(limit)) as StoredRow[]
   return rows.map(toStored)
 }
 

@@ -161,7 +161,7 @@ export async function getUnitHits(db: Knex, by: { ids: number[] } | { serials: s
     .joinRaw(
       // Retests decide nothing: the latest other result's verdict, or `retest` when there are only retests (unitVerdictOf).
       `left join lateral (select res.verdict from recordings r join results res on res.recording_id = r.id
-        where r.unit_id = u.id and r.status = 'done' and not r.is_return_test
+        where r.unit_id = u.id and r.status = 'done' and r.purpose = 'production'
         order by res.verdict is not distinct from 'retest', r.id desc limit 1) v on true`,
     )
     .select('u.id', 'u.serial', 'p.code as product_code', 'p.name as product_name', 'l.code as lot_code', 't.last_tested_at', 't.tests', 'v.verdict')

@@ -39,6 +39,6 @@ export async function currentMaskOpinion(
 ): Promise<CurrentMaskOpinion | null> {
   const active = await getActiveMask(db, product.id)
   if (!active) return null
-  const stored = await listProductResults(db, product.id, { recordingIds, includeReturnTests: true })
+  const stored = await listProductResults(db, product.id, { recordingIds, anyPurpose: true })
   return maskOpinion(active, product.ratedImpedanceOhm, stored)
 }

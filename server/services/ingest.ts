@@ -14,6 +14,7 @@ import type { UploadFields } from '../../shared/utils/recordings.ts'
 import { isUniqueViolation } from '../repos/pg-errors.ts'
 import { getActiveMask } from '../repos/masks.ts'
 import { getProductById } from '../repos/products.ts'
+import { getActiveReferenceOfUnit } from '../repos/reference-units.ts'
 import { tableRefusal } from './analyze.ts'
 
 export const UPLOAD_REFUSAL_CODES = ['unsupported_file', 'too_large', 'station_required', 'unknown_return', 'return_closed', 'wrong_unit', 'already_uploaded', 'same_recording_other_unit'] as const satisfies readonly ErrorCode[]
@@ -106,7 +107,7 @@ async function refuseUncoveredTable(trx: Knex.Transaction, productId: number, by
 
 /**
  * Accepts one upload: validates it, then in one transaction registers the unit when new, stores the
- * file, inserts the recording row and enqueues its analysis. The same file for the same unit again
+ * file, inserts the recording row (a station check when the unit is a reference unit) and enqueues its analysis. The same file for the same unit again
  * returns the earlier recording. Nothing is left behind when any step fails.
  * @throws UploadRefused or AnalysisInputError for input the product cannot take.
  */
@@ -137,6 +138,8 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
         if (elsewhere) {
           throw new UploadRefused('same_recording_other_unit', `This exact file was already uploaded for unit ${elsewhere.serial}: a station must record each unit anew`)
         }
+        // A reference unit measured again is a station check: it never counts in production.
+        const stationCheck = !ret && (await getActiveReferenceOfUnit(trx, Number(unit.id))) !== undefined
         const id = await insertRecording(trx, {
           unitId: Number(unit.id),
           stationId: src.station?.id ?? null,
@@ -150,6 +153,7 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
           ambientC: ambientC ?? null,
           note: note ?? null,
           returnId: ret?.id ?? null,
+          stationCheck,
         })
         await storage.putFile(key, src.tempPath)
         stored = true

@@ -2,8 +2,9 @@ import type { Role } from '../utils/roles'
 import type { ErrorCode } from '../utils/error-codes'
 import type { Coil } from '../utils/coil'
 import type { DecisionRule, LimitFloors, ScalarLimitName } from '../utils/mask'
-import type { RecordingStatus } from '../utils/recordings'
+import type { RecordingPurpose, RecordingStatus } from '../utils/recordings'
 import type { StationProfile } from '../utils/station-profile'
+import type { AcceptedValue, ReferenceFigures, VerificationLimit } from '../utils/reference-units'
 import type { RetestReason, Verdict } from '../utils/verdict'
 
 /** Every error answer (server/utils/errors.ts, errorAnswer); `code` is from shared/utils/error-codes.ts. */
@@ -94,6 +95,8 @@ export interface RecordingSummary {
   finishedAt: string | null
   originalName: string
   returnTest: boolean
+  /** What the recording was made for; only production tests count in yield, lots and Cpk. */
+  purpose: RecordingPurpose
   maskVersion: number | null
   error: { code: string; message: string } | null
 }
@@ -374,4 +377,24 @@ export interface MaskTransition {
 export interface StationToken {
   id: number
   token: string
+}
+
+/** A reference unit of a product, with the values its station checks are judged against. */
+export interface ReferenceUnitView {
+  id: number
+  serial: string
+  productCode: string
+  description: string
+  keptAt: string
+  /** The trusted station the accepted values were measured on. */
+  stationId: number | null
+  stationName: string | null
+  accepted: ReferenceFigures<AcceptedValue>
+  limits: ReferenceFigures<VerificationLimit>
+  /** The recordings the accepted values are the mean of. */
+  basisRecordingIds: number[]
+  createdAt: string
+  createdBy: string | null
+  retiredAt: string | null
+  retireComment: string | null
 }

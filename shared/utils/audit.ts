@@ -30,6 +30,8 @@ export const AUDIT_ACTION_LABELS: Record<string, string> = {
   'mask.release': 'Mask released',
   'mask.retire': 'Mask retired',
   'mask.export_csv': 'Mask limits CSV exported',
+  'reference_unit.register': 'Reference unit registered',
+  'reference_unit.retire': 'Reference unit retired',
   'lot.export_csv': 'Lot CSV exported',
   'lot.export_pdf': 'Lot report PDF exported',
   'lot.report_sent': 'Lot report e-mailed',

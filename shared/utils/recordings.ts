@@ -31,6 +31,10 @@ export type UploadFields = z.infer<typeof uploadFieldsSchema>
 export const RECORDING_STATUSES = ['queued', 'analysing', 'done', 'rejected', 'failed'] as const
 export type RecordingStatus = (typeof RECORDING_STATUSES)[number]
 
+/** What a recording was made for: a production test, a return test, or a station check (a reference unit measured again). */
+export const RECORDING_PURPOSES = ['production', 'return_test', 'station_check'] as const
+export type RecordingPurpose = (typeof RECORDING_PURPOSES)[number]
+
 export const recentQuerySchema = z.object({
   station: decimalNumber(z.number().int().positive().optional()),
   limit: decimalNumber(z.number().int().min(1).max(200).default(20)),

@@ -16,6 +16,7 @@ import { CERTIFICATE_ERROR_CODES } from '../../server/services/units'
 import { UPLOAD_REFUSAL_CODES } from '../../server/services/ingest'
 import { GOLDEN_ERROR_CODES, RELEASE_ERROR_CODES } from '../../server/services/masks'
 import { RETURN_ERROR_CODES } from '../../server/services/returns'
+import { REFERENCE_ERROR_CODES } from '../../server/services/reference-units'
 import { UNIT_INPUT_ERROR_CODES } from '../../server/repos/units'
 import { MASK_STATE_ERROR_CODES } from '../../server/repos/masks'
 import { INVITATION_ERROR_CODES } from '../../server/repos/invitations'
@@ -37,6 +38,7 @@ const CODE_LISTS: Record<string, readonly string[]> = {
   'golden units (masks service)': GOLDEN_ERROR_CODES,
   'mask release (masks service)': RELEASE_ERROR_CODES,
   'returns service': RETURN_ERROR_CODES,
+  'reference units service': REFERENCE_ERROR_CODES,
   'units repo': UNIT_INPUT_ERROR_CODES,
   'masks repo': MASK_STATE_ERROR_CODES,
   'invitations repo': INVITATION_ERROR_CODES,

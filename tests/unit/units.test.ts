@@ -125,6 +125,7 @@ const TEST: RecordingView = {
   finishedAt: '2026-11-26T09:41:08.000Z',
   originalName: 'unit.wav',
   returnTest: false,
+  purpose: 'production',
   maskVersion: 3,
   error: null,
   parameters: { reOhm: 3.31, re20Ohm: 3.3, ambientC: 23, fsHz: 61.27, qms: 4.1, qes: 0.52, qts: 0.46, leMh: 0.31, zmaxOhm: 30, zminOhm: 3.6, sensitivityDb: 88.4, thdPct: 0.8, thdMaxPct: 2.1, rubBuzzDb: -61.2 },
