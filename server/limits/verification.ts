@@ -10,6 +10,7 @@ import {
   REPEAT_SD_MULTIPLIER,
   TOLERANCE_SHARE,
   type AcceptedValue,
+  type CheckedFigure,
   type ReferenceFigures,
   type VerificationLimit,
 } from '../../shared/utils/reference-units.ts'
@@ -57,16 +58,6 @@ export function verificationLimits(
     out[name] = { low: a.value - half, high: a.value + half, rule: repeat > share ? 'repeatability' : 'tolerance_share', toleranceWidth: width }
   }
   return out
-}
-
-/** One figure of a station check against its verification limit. */
-export interface CheckedFigure {
-  value: number | null
-  accepted: number
-  low: number
-  high: number
-  /** False for a figure outside its limit, and for a figure the check could not measure. */
-  pass: boolean
 }
 
 /** A station check: each limited figure of the reference unit's new measurement against its verification limit. */

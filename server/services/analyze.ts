@@ -17,6 +17,7 @@ import {
 import { getActiveMask } from '../repos/masks.ts'
 import { getRecording, markFinishedWithError } from '../repos/recordings.ts'
 import { saveResult } from '../repos/results.ts'
+import { recordStationCheck } from './station-checks.ts'
 import { getProfileVersion } from '../repos/stations.ts'
 import { getProductById } from '../repos/products.ts'
 import { getUnitById } from '../repos/units.ts'
@@ -115,6 +116,9 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
       return 'rejected'
     }
     await saveResult(trx, { recordingId, unitId: Number(rec.unit_id), analysis }, verdict)
+    if (rec.purpose === 'station_check') {
+      await recordStationCheck(trx, { id: recordingId, unitId: Number(rec.unit_id), stationId: rec.station_id === null ? null : Number(rec.station_id), productId: product.id }, analysis)
+    }
     return 'done'
   })
 }

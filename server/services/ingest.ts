@@ -16,8 +16,9 @@ import { getActiveMask } from '../repos/masks.ts'
 import { getProductById } from '../repos/products.ts'
 import { getActiveReferenceOfUnit } from '../repos/reference-units.ts'
 import { tableRefusal } from './analyze.ts'
+import { getStationState } from './station-checks.ts'
 
-export const UPLOAD_REFUSAL_CODES = ['unsupported_file', 'too_large', 'station_required', 'unknown_return', 'return_closed', 'wrong_unit', 'already_uploaded', 'same_recording_other_unit'] as const satisfies readonly ErrorCode[]
+export const UPLOAD_REFUSAL_CODES = ['unsupported_file', 'too_large', 'station_required', 'unknown_return', 'return_closed', 'wrong_unit', 'already_uploaded', 'same_recording_other_unit', 'station_unverified'] as const satisfies readonly ErrorCode[]
 
 /** Why an upload was refused before anything was stored (the engine's refusals are AnalysisInputError). */
 export class UploadRefused extends DomainError<(typeof UPLOAD_REFUSAL_CODES)[number]> {}
@@ -105,6 +106,14 @@ async function refuseUncoveredTable(trx: Knex.Transaction, productId: number, by
   if (refusal) throw refusal
 }
 
+/** Refuses, before anything is stored, an upload from a station that is blocked (see stationState). */
+async function refuseUnverifiedStation(trx: Knex.Transaction, stationId: number): Promise<void> {
+  const state = await getStationState(trx, stationId)
+  if (state.blocked) {
+    throw new UploadRefused('station_unverified', `This station is blocked since ${state.since}. ${state.reason} An engineer can release it for a stated time.`, { since: state.since, state: state.state })
+  }
+}
+
 /**
  * Accepts one upload: validates it, then in one transaction registers the unit when new, stores the
  * file, inserts the recording row (a station check when the unit is a reference unit) and enqueues its analysis. The same file for the same unit again
@@ -140,6 +149,8 @@ export async function acceptUpload(db: Knex, storage: RecordingStorage, boss: Pg
         }
         // A reference unit measured again is a station check: it never counts in production.
         const stationCheck = !ret && (await getActiveReferenceOfUnit(trx, Number(unit.id))) !== undefined
+        // A station due for its check (or whose check failed) measures nothing but a reference unit.
+        if (src.station && !stationCheck && !ret) await refuseUnverifiedStation(trx, src.station.id)
         const id = await insertRecording(trx, {
           unitId: Number(unit.id),
           stationId: src.station?.id ?? null,

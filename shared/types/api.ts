@@ -4,7 +4,8 @@ import type { Coil } from '../utils/coil'
 import type { DecisionRule, LimitFloors, ScalarLimitName } from '../utils/mask'
 import type { RecordingPurpose, RecordingStatus } from '../utils/recordings'
 import type { StationProfile } from '../utils/station-profile'
-import type { AcceptedValue, ReferenceFigures, VerificationLimit } from '../utils/reference-units'
+import type { AcceptedValue, CheckedFigure, ReferenceFigures, VerificationLimit } from '../utils/reference-units'
+import type { CheckPlan, StationState } from '../utils/station-checks'
 import type { RetestReason, Verdict } from '../utils/verdict'
 
 /** Every error answer (server/utils/errors.ts, errorAnswer); `code` is from shared/utils/error-codes.ts. */
@@ -397,4 +398,23 @@ export interface ReferenceUnitView {
   createdBy: string | null
   retiredAt: string | null
   retireComment: string | null
+}
+
+/** One station check: the reference unit's figures against their verification limits. */
+export interface StationCheckView {
+  id: number
+  recordingId: number
+  referenceUnitId: number
+  serial: string
+  pass: boolean
+  figures: ReferenceFigures<CheckedFigure>
+  checkedAt: string
+}
+
+/** A station's check plan, its state and its latest checks. */
+export interface StationCheckStatus {
+  stationId: number
+  plan: CheckPlan | null
+  state: StationState
+  checks: StationCheckView[]
 }

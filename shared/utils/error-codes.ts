@@ -36,6 +36,7 @@ export const ERROR_CODES = {
   unknown_return: { status: 404, message: 'No such return' },
   unknown_attachment: { status: 404, message: 'No such attachment' },
   unknown_person: { status: 404, message: 'No such person' },
+  station_not_found: { status: 404, message: 'No such station' },
   unknown_reference_unit: { status: 404, message: 'No such reference unit' },
   invitation_unknown: { status: 404, message: 'This invitation link is not valid' },
   mailbox_off: { status: 404, message: 'The local mailbox is off' },
@@ -52,6 +53,7 @@ export const ERROR_CODES = {
   false_reject_unconfirmed: { status: 409, message: 'This mask is expected to reject more good units than the product allows: confirm the release once more' },
   reference_unit_exists: { status: 409, message: 'This unit is a reference unit already: retire it first to register it anew' },
   reference_retired: { status: 409, message: 'This reference unit is retired' },
+  station_not_blocked: { status: 409, message: 'This station is not blocked' },
   no_production_test: { status: 409, message: 'This unit has no finished production test' },
   return_closed: { status: 409, message: 'This return is closed: it cannot change' },
   already_uploaded: { status: 409, message: 'This exact file was already uploaded' },
@@ -119,6 +121,9 @@ export const ERROR_CODES = {
   non_finite_value: { status: 422, message: 'A value is not a finite number' },
   invalid_option: { status: 422, message: 'An option is not valid' },
   unbalanced_study: { status: 422, message: 'The gauge study is missing measurements or has unequal trials' },
+
+  // A station that may not measure production now.
+  station_unverified: { status: 423, message: 'This station must be checked with its reference unit before it measures production' },
 
   // Too many tries.
   sign_in_limited: { status: 429, message: 'Too many failed sign-ins: wait and try again' },

@@ -61,4 +61,14 @@ export type ReferenceRegisterInput = z.infer<typeof referenceRegisterSchema>
 
 export const referenceRetireSchema = z.object({ comment: plainText().trim().min(1, 'say why the unit is retired').max(500) })
 
+/** One figure of a station check against its verification limit. */
+export interface CheckedFigure {
+  value: number | null
+  accepted: number
+  low: number
+  high: number
+  /** False for a figure outside its limit, and for a figure the check could not measure. */
+  pass: boolean
+}
+
 export type ReferenceFigures<T> = Partial<Record<ScalarLimitName, T>>

@@ -17,6 +17,7 @@ import { UPLOAD_REFUSAL_CODES } from '../../server/services/ingest'
 import { GOLDEN_ERROR_CODES, RELEASE_ERROR_CODES } from '../../server/services/masks'
 import { RETURN_ERROR_CODES } from '../../server/services/returns'
 import { REFERENCE_ERROR_CODES } from '../../server/services/reference-units'
+import { STATION_CHECK_ERROR_CODES } from '../../server/services/station-checks'
 import { UNIT_INPUT_ERROR_CODES } from '../../server/repos/units'
 import { MASK_STATE_ERROR_CODES } from '../../server/repos/masks'
 import { INVITATION_ERROR_CODES } from '../../server/repos/invitations'
@@ -39,6 +40,7 @@ const CODE_LISTS: Record<string, readonly string[]> = {
   'mask release (masks service)': RELEASE_ERROR_CODES,
   'returns service': RETURN_ERROR_CODES,
   'reference units service': REFERENCE_ERROR_CODES,
+  'station checks service': STATION_CHECK_ERROR_CODES,
   'units repo': UNIT_INPUT_ERROR_CODES,
   'masks repo': MASK_STATE_ERROR_CODES,
   'invitations repo': INVITATION_ERROR_CODES,
