@@ -4,7 +4,7 @@
  * station, the active mask's scalar limits and the product's floors.
  */
 import { summarize } from '../stats/summary.ts'
-import { DEFAULT_FLOORS, floorOf, figureValue, type FigureSource, type LimitFloors, type MaskLimits, type ScalarLimitName } from '../../shared/utils/mask.ts'
+import { DEFAULT_FLOORS, UPPER_ONLY, floorOf, figureValue, type FigureSource, type LimitFloors, type MaskLimits, type ScalarLimitName } from '../../shared/utils/mask.ts'
 import {
   REFERENCE_FIGURES,
   REPEAT_SD_MULTIPLIER,
@@ -35,7 +35,7 @@ export function toleranceWidth(name: ScalarLimitName, accepted: number, mask: Ma
   return 2 * (DEFAULT_FLOORS[name].unit === '%' ? (floor / 100) * Math.abs(accepted) : floor)
 }
 
-/** Default verification limits around the accepted values, with the engineer's own where given. */
+/** Default verification limits around the accepted values (none for THD and rub and buzz), with the engineer's own where given. */
 export function verificationLimits(
   accepted: ReferenceFigures<AcceptedValue>,
   mask: MaskLimits['scalars'] | null,
@@ -51,6 +51,8 @@ export function verificationLimits(
       out[name] = { low: set.low, high: set.high, rule: 'engineer', toleranceWidth: null }
       continue
     }
+    // THD and rub and buzz of a good unit read the station's noise floor, not its accuracy: no default limit.
+    if (UPPER_ONLY.has(name)) continue
     const width = toleranceWidth(name, a.value, mask, floors)
     const repeat = REPEAT_SD_MULTIPLIER * a.sd
     const share = TOLERANCE_SHARE * width

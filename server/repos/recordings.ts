@@ -42,6 +42,8 @@ export interface NewRecording {
   returnId?: number | null
   /** A station check: a reference unit measured again (never counts in production either). */
   stationCheck?: boolean
+  /** When it was uploaded, for a demo or an import of past recordings (default: now). */
+  uploadedAt?: Date
 }
 
 export async function insertRecording(db: Knex, r: NewRecording): Promise<number> {
@@ -60,6 +62,7 @@ export async function insertRecording(db: Knex, r: NewRecording): Promise<number
       note: r.note,
       ...(r.returnId ? { return_id: r.returnId, is_return_test: true, purpose: 'return_test' } : {}),
       ...(r.stationCheck && !r.returnId ? { purpose: 'station_check' } : {}),
+      ...(r.uploadedAt ? { uploaded_at: r.uploadedAt } : {}),
     })
     .returning('id')
   return Number(row.id)

@@ -12,6 +12,8 @@ export interface NewReferenceUnit {
   limits: ReferenceFigures<VerificationLimit>
   basisRecordingIds: number[]
   createdBy: number | null
+  /** Default: now (a demo dates it in the past). */
+  createdAt?: Date
 }
 
 interface ReferenceRow {
@@ -72,6 +74,7 @@ export async function insertReferenceUnit(db: Knex, r: NewReferenceUnit): Promis
       limits: JSON.stringify(r.limits),
       basis_recording_ids: r.basisRecordingIds,
       created_by: r.createdBy,
+      ...(r.createdAt ? { created_at: r.createdAt } : {}),
     })
     .returning('id')
   return Number(row.id)

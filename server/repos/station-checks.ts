@@ -33,12 +33,14 @@ export interface NewStationCheck {
   recordingId: number
   pass: boolean
   figures: ReferenceFigures<CheckedFigure>
+  /** When the reference unit was measured. */
+  checkedAt: Date
 }
 
 /** Stores a station check once per recording (a save repeated after a crash keeps the first). */
 export async function insertStationCheck(db: Knex, c: NewStationCheck): Promise<void> {
   await db('station_checks')
-    .insert({ station_id: c.stationId, reference_unit_id: c.referenceUnitId, recording_id: c.recordingId, pass: c.pass, figures: JSON.stringify(c.figures) })
+    .insert({ station_id: c.stationId, reference_unit_id: c.referenceUnitId, recording_id: c.recordingId, pass: c.pass, figures: JSON.stringify(c.figures), checked_at: c.checkedAt })
     .onConflict('recording_id')
     .ignore()
 }

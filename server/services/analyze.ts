@@ -117,7 +117,7 @@ export async function processRecording(db: Knex, storage: RecordingStorage, reco
     }
     await saveResult(trx, { recordingId, unitId: Number(rec.unit_id), analysis }, verdict)
     if (rec.purpose === 'station_check') {
-      await recordStationCheck(trx, { id: recordingId, unitId: Number(rec.unit_id), stationId: rec.station_id === null ? null : Number(rec.station_id), productId: product.id }, analysis)
+      await recordStationCheck(trx, { id: recordingId, unitId: Number(rec.unit_id), stationId: rec.station_id === null ? null : Number(rec.station_id), productId: product.id, uploadedAt: rec.uploaded_at }, analysis)
     }
     return 'done'
   })

@@ -23,7 +23,7 @@ export class ReferenceError extends DomainError<(typeof REFERENCE_ERROR_CODES)[n
  * verification limits the engineer's where given, else the default rule around them.
  * @throws ReferenceError for an unknown serial or station, a unit already registered, too few measurements.
  */
-export async function registerReferenceUnit(db: Knex, input: ReferenceRegisterInput, by: number | null): Promise<ReferenceUnitView> {
+export async function registerReferenceUnit(db: Knex, input: ReferenceRegisterInput, by: number | null, o: { at?: Date } = {}): Promise<ReferenceUnitView> {
   const unit = await getUnitBySerial(db, input.serial)
   if (!unit) throw new ReferenceError('unknown_serial', `No unit ${input.serial} has been tested here`)
   const station = await getStation(db, input.station)
@@ -51,6 +51,7 @@ export async function registerReferenceUnit(db: Knex, input: ReferenceRegisterIn
         limits,
         basisRecordingIds: measured.map((m) => m.recordingId),
         createdBy: by,
+        createdAt: o.at,
       })
       const detail = { serial: input.serial, product: product.code, station: station.name, measurements: measured.length, maskVersion: mask?.version ?? null }
       await recordAudit(trx, { userId: by, action: 'reference_unit.register', entity: 'reference_unit', entityId: id, subject: input.serial, detail })

@@ -83,9 +83,10 @@ export async function releaseStation(db: Knex, stationId: number, by: number | n
 
 /**
  * Judges an analysed station-check recording against its reference unit's verification limits and
- * stores the check (in the caller's transaction); a failed check is audited, as it blocks the station.
+ * stores the check (in the caller's transaction), dated when the unit was measured (the upload); a
+ * failed check is audited, as it blocks the station.
  */
-export async function recordStationCheck(trx: Knex.Transaction, rec: { id: number; unitId: number; stationId: number | null; productId: number }, analysis: AnalysisResult): Promise<void> {
+export async function recordStationCheck(trx: Knex.Transaction, rec: { id: number; unitId: number; stationId: number | null; productId: number; uploadedAt: Date }, analysis: AnalysisResult): Promise<void> {
   if (rec.stationId === null) return
   const active = await getActiveReferenceOfUnit(trx, rec.unitId)
   const ref = active && (await getReferenceUnit(trx, active.id))
@@ -93,7 +94,7 @@ export async function recordStationCheck(trx: Knex.Transaction, rec: { id: numbe
   const mask = await getActiveMask(trx, rec.productId)
   const source = { parameters: analysis.parameters, curves: analysis.curves }
   const checked = judgeStationCheck(source, ref.accepted, ref.limits, mask?.limits.thdBandHz ?? null)
-  await insertStationCheck(trx, { stationId: rec.stationId, referenceUnitId: ref.id, recordingId: rec.id, pass: checked.pass, figures: checked.figures })
+  await insertStationCheck(trx, { stationId: rec.stationId, referenceUnitId: ref.id, recordingId: rec.id, pass: checked.pass, figures: checked.figures, checkedAt: rec.uploadedAt })
   if (!checked.pass) {
     const failing = Object.entries(checked.figures).filter(([, f]) => !f.pass).map(([name]) => name)
     await recordAudit(trx, { userId: null, action: 'station.check_failed', entity: 'station', entityId: rec.stationId, subject: ref.serial, detail: { recordingId: rec.id, referenceUnitId: ref.id, failing } })

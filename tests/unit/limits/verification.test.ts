@@ -39,6 +39,12 @@ describe('tolerance width and verification limits', () => {
     expect(limits.re20Ohm!.high).toBeCloseTo(3.35, 12)
   })
 
+  it('sets no default limit on THD or rub and buzz (a good unit reads the noise floor there), only the engineer\'s own', () => {
+    const accepted = { thdMaxPct: { value: 0.5, sd: 0.01, n: 3 }, rubBuzzDb: { value: -58, sd: 0.5, n: 3 } }
+    expect(verificationLimits(accepted, { thdMaxPct: { low: null, high: 3 } }, null)).toEqual({})
+    expect(verificationLimits(accepted, null, null, { rubBuzzDb: { low: -70, high: -50 } })).toEqual({ rubBuzzDb: { low: -70, high: -50, rule: 'engineer', toleranceWidth: null } })
+  })
+
   it('keeps the engineer\'s own limit as given, and skips figures without an accepted value', () => {
     const limits = verificationLimits({ fsHz: { value: 50, sd: 0.1, n: 5 } }, null, null, { fsHz: { low: 49, high: 51 }, qts: { low: 0.3, high: 0.4 } })
     expect(limits).toEqual({ fsHz: { low: 49, high: 51, rule: 'engineer', toleranceWidth: null } })
