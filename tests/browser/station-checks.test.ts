@@ -135,7 +135,7 @@ describe('the bench with a station due for its check', () => {
     expect(await testDb()('recordings').where({ id: stored.checks[0]!.recordingId }).first()).toMatchObject({ purpose: 'station_check' })
     // The strip reads the station again after the upload: checked, nothing to do.
     await expect.poll(() => strip.getByTestId('station-check-badge').getAttribute('data-state', { timeout: 1000 }), { timeout: 10_000 }).toBe('verified')
-    expect(squash(await strip.getByTestId('station-check-badge').textContent())).toBe('✓ Checked')
+    expect(squash(await strip.getByTestId('station-check-badge').textContent())).toMatch(/^✓\s*Checked$/)
     expect(await strip.getByTestId('bench-station-blocked').count()).toBe(0)
     await shot(page, 'station-check-bench-checked')
     await page.close()
@@ -213,7 +213,12 @@ describe('the Stations page for an engineer', () => {
     // The notice answers the click: it has the focus and is scrolled into view.
     await expect.poll(() => activeTestId(page)).toBe('station-release-notice')
     await expect
-      .poll(() => notice.evaluate<boolean>('(el) => { const r = el.getBoundingClientRect(); return r.top >= 0 && r.bottom <= window.innerHeight }'))
+      .poll(() =>
+        notice.evaluate((el) => {
+          const r = (el as unknown as { getBoundingClientRect(): { top: number; bottom: number } }).getBoundingClientRect()
+          return r.top >= 0 && r.bottom <= (globalThis as unknown as { innerHeight: number }).innerHeight
+        }),
+      )
       .toBe(true)
     expect(await badge.getAttribute('data-state', { timeout: 1000 })).toBe('released')
     expect(squash(await badge.textContent())).toMatch(/Released until \d{4}-\d\d-\d\d \d\d:\d\d/)
