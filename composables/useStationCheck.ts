@@ -164,7 +164,7 @@ export function useBenchStationCheck(stationId: Ref<number | null>) {
 }
 
 /** The reference units in force of a product (none asked for without a product). */
-export function useReferenceUnits(productCode: Ref<string | null>) {
+export function useBenchReferenceUnits(productCode: Ref<string | null>) {
   const fetcher = useRequestFetch()
   return useAsyncData(
     computed(() => `reference-units:${productCode.value ?? 'none'}`),
