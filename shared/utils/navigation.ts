@@ -6,6 +6,8 @@ export interface NavItem {
   /** Roles that see the item; admin sees every item. */
   roles: readonly Role[]
   hint: string
+  /** False: never a role's first page after signing in (a page every role may read but no role works from). */
+  landing?: false
 }
 
 /** Each role's work, in the order the navigation shows it. Route middleware reads the same list. */
@@ -14,6 +16,7 @@ export const NAV_ITEMS: readonly NavItem[] = [
   { to: '/products', label: 'Products', roles: ['engineer'], hint: 'Driver models, rated impedance and voice-coil data' },
   { to: '/masks', label: 'Masks', roles: ['engineer'], hint: 'Tolerance masks built from golden units' },
   { to: '/stations', label: 'Stations', roles: ['engineer'], hint: 'Test positions and their calibration profiles' },
+  { to: '/reference-units', label: 'References', roles: ['technician', 'support', 'quality', 'engineer'], hint: 'Known units kept to check the test stations', landing: false },
   { to: '/lots', label: 'Lots', roles: ['quality', 'engineer'], hint: 'Yield, failure Pareto and drift per lot' },
   { to: '/units', label: 'Units', roles: ['support', 'quality', 'engineer', 'technician'], hint: 'Find any unit by serial' },
   { to: '/returns', label: 'Returns', roles: ['support', 'quality', 'engineer'], hint: 'Units sent back from the field' },
@@ -28,5 +31,5 @@ export function navItemFor(path: string): NavItem | undefined {
 
 /** The first page a role lands on after signing in. */
 export function homeFor(role: Role): string {
-  return NAV_ITEMS.find((i) => role !== 'admin' && i.roles.includes(role))?.to ?? '/people'
+  return NAV_ITEMS.find((i) => role !== 'admin' && i.landing !== false && i.roles.includes(role))?.to ?? '/people'
 }

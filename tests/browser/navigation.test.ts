@@ -126,7 +126,7 @@ describe('the header', () => {
     const page = await browser().newPage({ viewport: { width: 1366, height: 768 } })
     await signInAs(page, baseUrl, 'admin', '/people')
     const links = page.getByTestId('main-nav').getByRole('link')
-    await expect.poll(() => links.count()).toBe(9)
+    await expect.poll(() => links.count()).toBe(10)
     const tops = await links.evaluateAll((as) => as.map((a) => Math.round(a.getBoundingClientRect().top)))
     expect(new Set(tops).size).toBe(1)
     const search = await page.getByTestId('unit-search').boundingBox()
