@@ -1,6 +1,6 @@
 import type { Knex } from 'knex'
 import type { CheckPlan, StationStateInput } from '../../shared/utils/station-checks.ts'
-import type { CheckedFigure, ReferenceFigures } from '../../shared/utils/reference-units.ts'
+import type { CheckedFigure, ReferenceFigures, VerificationLimit } from '../../shared/utils/reference-units.ts'
 import type { StationCheckView } from '../../shared/types/api.ts'
 
 interface PlanRow {
@@ -94,4 +94,19 @@ export async function insertRelease(db: Knex, stationId: number, by: number | nu
     .insert({ station_id: stationId, released_by: by, comment, until: db.raw(`now() + make_interval(secs => ?)`, [hours * 3600]) })
     .returning('id')
   return Number(row.id)
+}
+
+/** Every station check of a product's reference units, with each figure's tolerance width, oldest first. */
+export async function listProductCheckFigures(
+  db: Knex,
+  productCode: string,
+): Promise<{ stationId: number; stationName: string; figures: ReferenceFigures<CheckedFigure>; limits: ReferenceFigures<VerificationLimit> }[]> {
+  const rows = await db('station_checks as c')
+    .join('reference_units as ru', 'ru.id', 'c.reference_unit_id')
+    .join('products as p', 'p.id', 'ru.product_id')
+    .join('stations as s', 's.id', 'c.station_id')
+    .where('p.code', productCode)
+    .orderBy('c.id')
+    .select('c.station_id', 's.name', 'c.figures', 'ru.limits')
+  return rows.map((r: { station_id: string; name: string; figures: ReferenceFigures<CheckedFigure>; limits: ReferenceFigures<VerificationLimit> }) => ({ stationId: Number(r.station_id), stationName: r.name, figures: r.figures, limits: r.limits }))
 }

@@ -14,10 +14,12 @@ import { judgeStationCheck } from '../limits/verification.ts'
 import { getActiveMask } from '../repos/masks.ts'
 import { getActiveReferenceOfUnit, getReferenceUnit } from '../repos/reference-units.ts'
 import { getStation } from '../repos/stations.ts'
-import { getCheckPlan, insertRelease, insertStationCheck, latestRelease, listStationChecks, nthProductionUploadAfter, writeCheckPlan } from '../repos/station-checks.ts'
+import { getCheckPlan, listProductCheckFigures, insertRelease, insertStationCheck, latestRelease, listStationChecks, nthProductionUploadAfter, writeCheckPlan } from '../repos/station-checks.ts'
 import { recordAudit } from './audit.ts'
+import { OFFSET_WARN_SHARE, stationOffsets, type StationOffset } from '../stats/station-offsets.ts'
+import { getProductByCode } from '../repos/products.ts'
 
-export const STATION_CHECK_ERROR_CODES = ['station_not_found', 'station_not_blocked'] as const satisfies readonly ErrorCode[]
+export const STATION_CHECK_ERROR_CODES = ['station_not_found', 'station_not_blocked', 'product_not_found'] as const satisfies readonly ErrorCode[]
 export class StationCheckError extends DomainError<(typeof STATION_CHECK_ERROR_CODES)[number]> {}
 
 /** Checks listed with a station's state. */
@@ -99,4 +101,19 @@ export async function recordStationCheck(trx: Knex.Transaction, rec: { id: numbe
     const failing = Object.entries(checked.figures).filter(([, f]) => !f.pass).map(([name]) => name)
     await recordAudit(trx, { userId: null, action: 'station.check_failed', entity: 'station', entityId: rec.stationId, subject: ref.serial, detail: { recordingId: rec.id, referenceUnitId: ref.id, failing } })
   }
+}
+
+/**
+ * Each station's offset per figure for a product: from every check of the product's reference
+ * units, value − accepted value (see stationOffsets). @throws StationCheckError `product_not_found`.
+ */
+export async function getStationOffsets(db: Knex, productCode: string): Promise<{ product: string; warnShare: number; offsets: StationOffset[] }> {
+  if (!(await getProductByCode(db, productCode))) throw new StationCheckError('product_not_found', `No product ${productCode}`)
+  const checks = await listProductCheckFigures(db, productCode)
+  const diffs = checks.flatMap((c) =>
+    Object.entries(c.figures).flatMap(([figure, f]) =>
+      f.value === null ? [] : [{ stationId: c.stationId, stationName: c.stationName, figure, difference: f.value - f.accepted, toleranceWidth: c.limits[figure as keyof typeof c.limits]?.toleranceWidth ?? null }],
+    ),
+  )
+  return { product: productCode, warnShare: OFFSET_WARN_SHARE, offsets: stationOffsets(diffs) }
 }

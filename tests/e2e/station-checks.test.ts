@@ -20,7 +20,7 @@ let tech: { cookie: string }
 let product: { id: number; code: string }
 let station: { id: number; token: string }
 const refSerial = unique('REF')
-let seed = 700
+let seed = 2500
 
 async function api<T>(method: string, path: string, body?: unknown, who: { cookie: string } = eng): Promise<{ status: number; body: T & { data?: { code: string; since?: string; state?: string }; message?: string } }> {
   const res = await fetch(new URL(path, host), {
@@ -139,6 +139,20 @@ describe('a station with a check plan', () => {
     // Only a blocked station can be released.
     const again = await api('POST', `/api/stations/${station.id}/release`, body)
     expect([again.status, again.body.data?.code]).toEqual([409, 'station_not_blocked'])
+  })
+
+  it('shows the station\'s offset per figure from its checks, warned above a tenth of the tolerance', async () => {
+    expect((await api('GET', `/api/reference-units/offsets?product=${product.code}`, undefined, tech)).status).toBe(403)
+    const res = await api<{ warnShare: number; offsets: { stationId: number; figure: string; n: number; offset: number; ci: [number, number] | null; warn: boolean }[] }>('GET', `/api/reference-units/offsets?product=${product.code}`)
+    expect(res.status).toBe(200)
+    const fs = res.body.offsets.find((o) => o.stationId === station.id && o.figure === 'fsHz')!
+    // Two checks: one reading as accepted, one with Fs 10 % high: the mean difference is about 5 % of Fs.
+    expect(fs.n).toBe(2)
+    expect(fs.offset / DEMO_DRIVER.fsHz).toBeGreaterThan(0.03)
+    expect(fs.offset / DEMO_DRIVER.fsHz).toBeLessThan(0.07)
+    expect(fs.ci![0]).toBeLessThan(fs.offset)
+    expect(fs.warn).toBe(true)
+    expect((await api('GET', '/api/reference-units/offsets?product=NOPE-NONE')).status).toBe(404)
   })
 
   it('is never blocked again once its plan is removed', async () => {
