@@ -31,7 +31,7 @@ beforeAll(async () => {
   }
   // The second unit came back: a later recording marked as a return test (test setup only).
   const ret = await postRecording(baseUrl, { token: station.token }, { serial: serials[1]! }, { bytes: generateRecording({ seed: 1152, defect: 'inverted_polarity' }), name: 'return.wav' })
-  await testDb()('recordings').where({ id: ret.body.id }).update({ is_return_test: true })
+  await testDb()('recordings').where({ id: ret.body.id }).update({ is_return_test: true, purpose: 'return_test' })
   expect((await waitFinished(baseUrl, { token: station.token }, ret.body.id)).verdict).toBe('fail')
 }, 300_000)
 

@@ -81,7 +81,7 @@ beforeAll(async () => {
   const retestId = await upload(RETEST.unit, RETEST.seed, RETEST.defect)
   for (const u of PLAN) firstViews[u.name] = await waitFinished(host, tech, firstIds[u.name]!)
   const returnId = await upload(RETURN_TEST.unit, RETURN_TEST.seed, RETURN_TEST.defect)
-  await testDb()('recordings').where({ id: returnId }).update({ is_return_test: true })
+  await testDb()('recordings').where({ id: returnId }).update({ is_return_test: true, purpose: 'return_test' })
   const retest = await waitFinished(host, tech, retestId)
   expect((await waitFinished(host, tech, returnId)).verdict).toBe('fail')
   // Preconditions of the known answers: the generator's defect fails polarity and nothing else; good ones pass.

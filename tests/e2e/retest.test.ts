@@ -86,7 +86,7 @@ async function insertUnit(name: string, inLot = true): Promise<number> {
 async function insertResult(unitId: number, t: Planned): Promise<{ recordingId: number; resultId: number }> {
   const at = new Date(base.getTime() + ++minute * 60_000)
   const [rec] = await db()('recordings')
-    .insert({ unit_id: unitId, kind: 'sweep', original_name: 'unit.wav', byte_size: 1, sha256: unique('sha'), storage_key: unique('key'), status: 'done', uploaded_at: at, finished_at: at, is_return_test: !!t.returnTest })
+    .insert({ unit_id: unitId, kind: 'sweep', original_name: 'unit.wav', byte_size: 1, sha256: unique('sha'), storage_key: unique('key'), status: 'done', uploaded_at: at, finished_at: at, is_return_test: !!t.returnTest, purpose: t.returnTest ? 'return_test' : 'production' })
     .returning('id')
   const judged = t.verdict !== null
   const [res] = await db()('results')

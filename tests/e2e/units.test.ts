@@ -75,7 +75,7 @@ beforeAll(async () => {
   const ret = await postRecording(host, tech, fields, { bytes: generateRecording({ seed: 1102, defect: 'inverted_polarity' }), name: 'return.wav' })
   ids.returnTest = ret.body.id
   // Marked as the returns desk marks a return test (test setup only).
-  await testDb()('recordings').where({ id: ids.returnTest }).update({ is_return_test: true })
+  await testDb()('recordings').where({ id: ids.returnTest }).update({ is_return_test: true, purpose: 'return_test' })
   expect((await waitFinished(host, tech, ids.returnTest)).verdict).toBe('fail')
   for (const s of prefixed) await resolveUnit(testDb(), s, product.code, lotCode)
 }, 120_000)
