@@ -7,6 +7,7 @@ import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import type { MaskPreview, MaskView, RecordingView } from '../../shared/types/api'
 import type { UnitView } from '../../shared/types/units'
 import { signIn, useTestServer } from '../support/app'
+import { jsonApi } from '../support/api'
 import { closeTestDb, makeProduct, makeStation, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
@@ -19,14 +20,7 @@ let product: { id: number; code: string }
 let station: { id: number; token: string }
 const golden: RecordingView[] = []
 
-async function api<T>(method: string, path: string, body?: unknown, who: { cookie: string } = eng): Promise<{ status: number; body: T & { data?: { code: string }; message?: string } }> {
-  const res = await fetch(new URL(path, host), {
-    method,
-    headers: { ...who, ...(body !== undefined ? { 'content-type': 'application/json' } : {}) },
-    body: body !== undefined ? JSON.stringify(body) : undefined,
-  })
-  return { status: res.status, body: (await res.json()) as never }
-}
+const api = jsonApi(host, () => eng)
 
 async function testUnit(seed: number, serial = unique('MU')): Promise<RecordingView> {
   const up = await postRecording(host, tech, { serial, product: product.code, station: station.id }, { bytes: generateRecording({ seed }), name: `${seed}.wav` })

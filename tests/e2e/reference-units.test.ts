@@ -10,6 +10,7 @@ import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import type { RecordingView, ReferenceUnitView } from '../../shared/types/api'
 import { REPEAT_SD_MULTIPLIER, TOLERANCE_SHARE } from '../../shared/utils/reference-units'
 import { signIn, useTestServer } from '../support/app'
+import { jsonApi } from '../support/api'
 import { closeTestDb, makeProduct, makeStation, testDb, unique } from '../support/db'
 import { postRecording, waitFinished } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
@@ -24,14 +25,7 @@ const lot = unique('L')
 const refSerial = unique('REF')
 const measured: RecordingView[] = []
 
-async function api<T>(method: string, path: string, body?: unknown, who: { cookie: string } = eng): Promise<{ status: number; body: T & { data?: { code: string }; message?: string } }> {
-  const res = await fetch(new URL(path, host), {
-    method,
-    headers: { ...who, ...(body !== undefined ? { 'content-type': 'application/json' } : {}) },
-    body: body !== undefined ? JSON.stringify(body) : undefined,
-  })
-  return { status: res.status, body: (await res.json()) as never }
-}
+const api = jsonApi(host, () => eng)
 
 async function measure(serial: string, seed: number): Promise<RecordingView> {
   const up = await postRecording(host, tech, { serial, product: product.code, lot, station: station.id }, { bytes: generateRecording({ seed }), name: `${seed}.wav` })

@@ -9,6 +9,7 @@ import { DEMO_DRIVER, generateRecording } from '../../fixtures/generator'
 import { DEMO_PASSWORD, demoEmail } from '../../seeds/01-demo-users'
 import type { RecordingView, ReferenceUnitView, StationCheckStatus } from '../../shared/types/api'
 import { signIn, useTestServer } from '../support/app'
+import { jsonApi } from '../support/api'
 import { closeTestDb, makeProduct, makeStation, testDb, unique } from '../support/db'
 import { postRecording, waitFinished, type Auth } from '../support/upload'
 import { startWorker, type RunningWorker } from '../support/worker'
@@ -22,14 +23,7 @@ let station: { id: number; token: string }
 const refSerial = unique('REF')
 let seed = 2500
 
-async function api<T>(method: string, path: string, body?: unknown, who: { cookie: string } = eng): Promise<{ status: number; body: T & { data?: { code: string; since?: string; state?: string }; message?: string } }> {
-  const res = await fetch(new URL(path, host), {
-    method,
-    headers: { ...who, ...(body !== undefined ? { 'content-type': 'application/json' } : {}) },
-    body: body !== undefined ? JSON.stringify(body) : undefined,
-  })
-  return { status: res.status, body: (await res.json()) as never }
-}
+const api = jsonApi(host, () => eng)
 
 /** Uploads one recording of `serial` through the station's token (or a signed-in technician's bench). */
 function upload(serial: string, o: { as?: Auth; fsHz?: number } = {}) {
